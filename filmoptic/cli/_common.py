@@ -1,0 +1,216 @@
+"""Pieces shared by the sub-commands: option types, output, files, progress.
+
+Kept free of heavy imports: numpy is imported by the functions that need it.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import sys
+import tempfile
+from contextlib import contextmanager
+from pathlib import Path
+
+import click
+
+from filmoptic.errors import FilmopticError
+
+__all__ = [
+    "user_errors",
+    "json_option",
+    "ambient_option",
+    "angle_option",
+    "extrapolate_option",
+    "emit_json",
+    "to_jsonable",
+    "print_table",
+    "percent",
+    "write_atomically",
+    "save_plot",
+    "progress",
+    "echo_caution",
+    "WavelengthsType",
+    "FractionType",
+]
+
+
+@contextmanager
+def user_errors():
+    """Turn a :class:`FilmopticError` into a click error (one line, exit code 2)."""
+    try:
+        yield
+    except FilmopticError as exc:
+        raise click.UsageError(str(exc)) from None
+
+
+json_option = click.option(
+    "--json", "as_json", is_flag=True, help="Print machine-readable JSON on stdout (and nothing else)."
+)
+ambient_option = click.option(
+    "--ambient", default="air", show_default=True, metavar="MATERIAL",
+    help="Medium the light comes from (and that lies behind a thick substrate).",
+)
+angle_option = click.option(
+    "--angle", type=click.FloatRange(0, 89.999), default=0.0, show_default=True, metavar="DEG",
+    help="Angle of incidence in the ambient, degrees from the normal.",
+)
+extrapolate_option = click.option(
+    "--extrapolate", is_flag=True,
+    help="Allow wavelengths outside a table's range by holding its end values (with a warning).",
+)
+
+
+class WavelengthsType(click.ParamType):
+    """``start:stop:step`` in nm or a comma list of wavelengths."""
+
+    name = "WL"
+
+    def convert(self, value, param, ctx):
+        if not isinstance(value, str):
+            return value
+        from filmoptic.units import parse_wavelengths_nm
+
+        try:
+            return parse_wavelengths_nm(value, what=f"--{param.name}" if param else "wavelengths")
+        except FilmopticError as exc:
+            self.fail(str(exc), param, ctx)
+
+
+class FractionType(click.ParamType):
+    """A fraction written ``0.3`` or ``30%``."""
+
+    name = "VALUE"
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, float):
+            return value
+        from filmoptic.units import parse_fraction
+
+        try:
+            return parse_fraction(value, what=f"--{param.name}" if param else "value")
+        except FilmopticError as exc:
+            self.fail(str(exc), param, ctx)
+
+
+def to_jsonable(obj):
+    """Convert numpy arrays/scalars, dataclasses and paths into plain JSON values.
+
+    Non-finite floats become ``null`` so the output is strict JSON.
+    """
+    import dataclasses
+
+    if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
+        return {f.name: to_jsonable(getattr(obj, f.name)) for f in dataclasses.fields(obj)}
+    if isinstance(obj, dict):
+        return {str(k): to_jsonable(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [to_jsonable(v) for v in obj]
+    if isinstance(obj, Path):
+        return str(obj)
+    if hasattr(obj, "tolist"):  # numpy array or scalar
+        return to_jsonable(obj.tolist())
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, complex):
+        return {"re": obj.real, "im": obj.imag}
+    return obj
+
+
+def emit_json(obj) -> None:
+    """Write ``obj`` as JSON on stdout."""
+    click.echo(json.dumps(to_jsonable(obj), indent=2, allow_nan=False))
+
+
+def percent(value, digits: int = 2) -> str:
+    """Format a fraction as percent for people (``0.3 -> '30.00'``)."""
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return "–"
+    return f"{100.0 * float(value):.{digits}f}"
+
+
+def print_table(headers, rows, title: str | None = None) -> None:
+    """Print a plain aligned text table on stdout (right-aligned numbers, left-aligned text)."""
+    rows = [["" if c is None else str(c) for c in row] for row in rows]
+    headers = [str(h) for h in headers]
+    widths = [max([len(h)] + [len(r[i]) for r in rows]) for i, h in enumerate(headers)]
+
+    def is_numeric(text):
+        try:
+            float(text.replace("%", "").replace("+", ""))
+            return True
+        except ValueError:
+            return False
+
+    def fmt(row):
+        cells = [c.rjust(w) if is_numeric(c) else c.ljust(w) for c, w in zip(row, widths)]
+        return "  ".join(cells).rstrip()
+
+    if title:
+        click.echo(title)
+    click.echo(fmt(headers))
+    click.echo("  ".join("-" * w for w in widths))
+    for row in rows:
+        click.echo(fmt(row))
+
+
+def write_atomically(path, write, mode: str = "w") -> Path:
+    """Write a whole file through ``write(fileobj)``: to a temporary file first, then rename.
+
+    An interrupted run never leaves a half-written file in the user's place.
+    """
+    path = Path(path)
+    directory = path.parent if str(path.parent) else Path(".")
+    if not directory.is_dir():
+        raise FilmopticError(f"cannot write {path}: folder {directory} does not exist")
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=directory)
+    try:
+        with os.fdopen(fd, mode, **({} if "b" in mode else {"encoding": "utf-8", "newline": ""})) as fh:
+            write(fh)
+        os.replace(tmp, path)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except FileNotFoundError:
+            pass
+        raise
+    return path
+
+
+PLOT_SUFFIXES = {".png", ".svg", ".pdf"}
+
+
+def check_plot_path(path) -> Path:
+    """Check that a plot file name ends in .png, .svg or .pdf and its folder exists."""
+    path = Path(path)
+    if path.suffix.lower() not in PLOT_SUFFIXES:
+        raise FilmopticError(f"plot file {path} must end in .png, .svg or .pdf")
+    if not (path.parent if str(path.parent) else Path(".")).is_dir():
+        raise FilmopticError(f"cannot write {path}: folder {path.parent} does not exist")
+    return path
+
+
+def save_plot(fig, path) -> Path:
+    """Save a matplotlib figure to ``path`` (format from the extension), atomically."""
+    from filmoptic.plots import save_figure
+
+    return save_figure(fig, check_plot_path(path))
+
+
+@contextmanager
+def progress(length: int, label: str):
+    """A progress bar on an interactive terminal; silent otherwise (pipes, --json, CI).
+
+    Yields a callable ``advance(n)``.
+    """
+    if sys.stderr.isatty():
+        with click.progressbar(length=length, label=label, file=sys.stderr) as bar:
+            yield bar.update
+    else:
+        yield lambda n=1: None
+
+
+def echo_caution(text: str, as_json: bool = False) -> None:
+    """Print a safety caution on stderr (so that --json output stays clean)."""
+    click.secho(f"CAUTION: {text}", err=True, fg="yellow")

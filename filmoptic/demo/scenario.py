@@ -1,0 +1,45 @@
+"""The demo's fictional scenario: the only place in filmoptic where invented numbers live.
+
+*Tarnwick Glass Studio* is an imaginary two-person workshop with a small DC sputter coater. This
+week it has three jobs:
+
+1. A semi-mirror for a display cabinet door: float glass 4 mm thick that passes 30 % of the light
+   (luminous transmittance, D65). Which metal, and how thick?
+2. Decorative titanium tags whose colour comes from a thin oxide grown on the metal, and a tinted
+   oxide film on silicon offcuts: what colour goes with which thickness?
+3. After a titanium run, a cheap lux-meter reading through the coated door glass, and two earlier
+   timed calibration runs, must give the film's thickness and the time for the next run. A
+   transmittance curve of an oxide test piece (synthetic, made by the demo itself with noise) is
+   fitted for thickness and index.
+
+None of these numbers are measurements; they exist to show the commands at work.
+"""
+
+SCENARIO_NAME = "Tarnwick Glass Studio (fictional)"
+
+# Job 1: the cabinet semi-mirror.
+MIRROR_SUBSTRATE = "glass 4mm"
+MIRROR_TARGET_LUMINOUS_T = 0.30
+MIRROR_CANDIDATES = ("Ti", "Cr", "Ni", "Al", "Ag")
+
+# Job 2: oxide colours.
+OXIDE_ON_METAL_STACK = "TiO2 ? / Ti"
+OXIDE_ON_METAL_RANGE_NM = (0.0, 250.0, 1.0)
+OXIDE_ON_SILICON_STACK = "SiO2 ? / Si"
+OXIDE_EXAMPLE_STACK = "TiO2 60nm / Ti"
+VIEWING_ANGLES_DEG = (0.0, 20.0, 40.0, 60.0)
+
+# Job 3: after the titanium run on the door glass.
+LUX_COATED = 318.0          # lux behind the coated door glass, halogen desk lamp (illuminant A)
+LUX_OPEN = 1045.0           # lux with nothing in the beam, same lamp and distance
+LUX_UNCERTAINTY = 0.02      # 2 % of the ratio: the meter's stated repeatability
+LUX_SOURCE = "A"
+CALIBRATION_RUNS = (("4min", "9.1nm"), ("10min", "21.8nm"))   # (duration, thickness) of earlier runs
+QCM_TOOLING_FACTOR = None   # the studio has no crystal monitor
+
+# Job 3b: synthetic transmittance of an oxide test piece (made by the demo, with noise).
+FIT_TRUE_STACK = "cauchy(2.21,0.032,0) 310nm / glass 1mm"
+FIT_MODEL_STACK = "cauchy(?,?,0) 150..500nm / glass 1mm"
+FIT_NOISE_ABS = 0.004       # standard deviation of the added noise, as a fraction of T
+FIT_SEED = 20261202
+FIT_WAVELENGTHS_NM = (400.0, 1000.0, 2.0)

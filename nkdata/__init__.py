@@ -1,0 +1,1 @@
+"""Optical-constant tables shipped with filmoptic (one plain-text file per dataset)."""

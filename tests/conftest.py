@@ -1,0 +1,61 @@
+"""Shared test fixtures.
+
+The tests exercise the *installed* filmoptic (CI installs it non-editable and runs pytest from the
+repository root); nothing here adds the source tree to ``sys.path``.
+"""
+
+from __future__ import annotations
+
+import io
+import subprocess
+import sys
+from contextlib import redirect_stderr, redirect_stdout
+from dataclasses import dataclass
+
+import pytest
+
+
+@dataclass
+class CliResult:
+    exit_code: int
+    stdout: str
+    stderr: str
+
+
+def _run_in_process(args) -> CliResult:
+    from filmoptic.cli import main
+
+    out, err = io.StringIO(), io.StringIO()
+    with redirect_stdout(out), redirect_stderr(err):
+        code = main([str(a) for a in args])
+    return CliResult(code, out.getvalue(), err.getvalue())
+
+
+@pytest.fixture
+def run_cli():
+    """Run ``filmoptic ARGS…`` in-process through the real entry point; returns a CliResult."""
+    return _run_in_process
+
+
+@pytest.fixture
+def run_cli_subprocess():
+    """Run ``python -m filmoptic ARGS…`` in a separate process (for start-up and traceback checks)."""
+
+    def run(args, cwd=None, env=None, timeout=120) -> CliResult:
+        proc = subprocess.run(
+            [sys.executable, "-m", "filmoptic", *map(str, args)],
+            capture_output=True, text=True, cwd=cwd, env=env, timeout=timeout,
+        )
+        return CliResult(proc.returncode, proc.stdout, proc.stderr)
+
+    return run
+
+
+def assert_user_error(result: CliResult, *fragments: str) -> None:
+    """A user mistake: exit code 2, exactly one line on stderr, no traceback, nothing on stdout."""
+    assert result.exit_code == 2, (result.exit_code, result.stdout, result.stderr)
+    lines = [line for line in result.stderr.splitlines() if line.strip()]
+    assert len(lines) == 1, result.stderr
+    assert "Traceback" not in result.stderr
+    for fragment in fragments:
+        assert fragment.lower() in lines[0].lower(), (fragment, lines[0])
