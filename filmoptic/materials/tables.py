@@ -1,0 +1,262 @@
+"""Tabulated optical constants: the nkdata file format and smooth interpolation.
+
+File format (plain text, UTF-8). A header of ``# key: value`` lines, then rows of
+``wavelength_nm n k`` (whitespace, comma or tab separated; wavelengths strictly increasing;
+k ≥ 0). Known header keys:
+
+``material``, ``dataset``, ``aliases`` (comma list), ``default`` (yes/no), ``kind``,
+``reference``, ``sample``, ``range_nm`` (two numbers), ``licence``, ``source``, ``formula``,
+``comments``. Every key is optional in a user's file: the material is then named after the file,
+and the range is that of the rows. A file with only two columns (wavelength_nm, n) means k = 0.
+
+Between rows, n and k are interpolated separately with a shape-preserving piecewise-cubic
+Hermite interpolant (PCHIP), which is smooth (continuous first derivative) and never overshoots
+the data, so a tabulated k ≥ 0 stays ≥ 0.
+"""
+
+from __future__ import annotations
+
+import functools
+import os
+import re
+from pathlib import Path
+
+import numpy as np
+
+from filmoptic.errors import DataFileError
+
+from .base import KINDS, Material
+
+__all__ = ["TabulatedMaterial", "read_header", "read_nk_file", "load_nk_file", "write_nk_file"]
+
+_HEADER_RE = re.compile(r"^#\s*([A-Za-z_]+)\s*:\s*(.*?)\s*$")
+
+
+class TabulatedMaterial(Material):
+    """Optical constants given as a table of (wavelength, n, k), interpolated with PCHIP.
+
+    Parameters
+    ----------
+    wavelength_nm, n, k : array_like
+        The rows; wavelengths strictly increasing, n > 0, k ≥ 0.
+    name, dataset, reference, kind : str
+        As in :class:`~filmoptic.materials.base.Material`.
+    header : dict, optional
+        The file header (sample, licence, …) for display.
+
+    References
+    ----------
+    F. N. Fritsch & R. E. Carlson, "Monotone piecewise cubic interpolation", SIAM J. Numer.
+    Anal. 17, 238 (1980) (the PCHIP interpolant).
+
+    Examples
+    --------
+    >>> m = TabulatedMaterial([400, 500, 600], [1.5, 1.4, 1.3], [0.1, 0.0, 0.0], name="demo")
+    >>> m.nk(500.0)
+    array(1.4+0.j)
+    """
+
+    def __init__(self, wavelength_nm, n, k, *, name="table", dataset="table", reference="",
+                 kind="dielectric", header=None):
+        wl = np.asarray(wavelength_nm, dtype=float)
+        n = np.asarray(n, dtype=float)
+        k = np.asarray(k, dtype=float)
+        label = f"{name}:{dataset}" if dataset not in ("", "table", "file") else name
+        _check_rows(wl, n, k, label)
+        self.name = name
+        self.dataset = dataset
+        self.reference = reference
+        self.kind = kind
+        self.header = dict(header or {})
+        self.wavelength_range_nm = (float(wl[0]), float(wl[-1]))
+        for array in (wl, n, k):
+            array.flags.writeable = False  # tables are shared through the cache
+        self.wavelength = wl
+        self.n = n
+        self.k = k
+        self._interpolants = None
+        #: False for a library dataset that is not its name's default (set by the library).
+        self.is_default = True
+
+    @property
+    def notation(self):
+        if self.dataset == "file" and self.header.get("path"):
+            return f"file:{self.header['path']}"
+        return self.name if self.is_default else f"{self.name}:{self.dataset}"
+
+    def interpolants(self):
+        """The (n, k) PCHIP interpolants, built on first use."""
+        if self._interpolants is None:
+            from scipy.interpolate import PchipInterpolator
+
+            # Flat stretches (k = 0 over a transparent range) make scipy divide by a zero slope
+            # internally; it handles that case correctly, so the warning is noise.
+            with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
+                self._interpolants = (
+                    PchipInterpolator(self.wavelength, self.n, extrapolate=False),
+                    PchipInterpolator(self.wavelength, self.k, extrapolate=False),
+                )
+        return self._interpolants
+
+    def _nk(self, wl):
+        if self.wavelength.size == 1:
+            return np.full(wl.shape, complex(self.n[0], self.k[0]))
+        n_of, k_of = self.interpolants()
+        return n_of(wl) + 1j * np.maximum(k_of(wl), 0.0)
+
+
+def _check_rows(wl, n, k, label):
+    if wl.ndim != 1 or not (wl.shape == n.shape == k.shape) or wl.size == 0:
+        raise DataFileError(f"{label}: the table needs rows of wavelength_nm, n and k")
+    if not (np.all(np.isfinite(wl)) and np.all(np.isfinite(n)) and np.all(np.isfinite(k))):
+        raise DataFileError(f"{label}: the table contains values that are not finite numbers")
+    if np.any(np.diff(wl) <= 0):
+        i = int(np.argmax(np.diff(wl) <= 0)) + 1
+        raise DataFileError(
+            f"{label}: wavelengths must increase from row to row (row {i + 1}: {wl[i]:g} nm after {wl[i - 1]:g} nm)"
+        )
+    if wl[0] <= 0:
+        raise DataFileError(f"{label}: wavelengths must be positive (nm)")
+    if np.any(n <= 0):
+        raise DataFileError(f"{label}: n must be positive (found {n.min():g})")
+    if np.any(k < 0):
+        raise DataFileError(
+            f"{label}: k must be >= 0 (found {k.min():g}); filmoptic writes N = n + i·k, so a table "
+            "from a source using n − i·k needs its k column negated"
+        )
+
+
+def read_header(path) -> dict:
+    """Read only the ``# key: value`` header of an nkdata file (fast, for listings)."""
+    header = {}
+    try:
+        with open(path, encoding="utf-8") as fh:
+            for line in fh:
+                stripped = line.strip()
+                if not stripped:
+                    continue
+                if not stripped.startswith("#"):
+                    break
+                m = _HEADER_RE.match(stripped)
+                if m:
+                    key = m.group(1).lower()
+                    # A key may continue over several lines ("reference" often does).
+                    header[key] = f"{header[key]} {m.group(2)}".strip() if key in header else m.group(2)
+    except (OSError, UnicodeDecodeError) as exc:
+        raise DataFileError(f"cannot read {path}: {exc}") from None
+    return header
+
+
+def _parse_rows(path) -> np.ndarray:
+    rows = []
+    try:
+        with open(path, encoding="utf-8") as fh:
+            for lineno, line in enumerate(fh, 1):
+                stripped = line.split("#", 1)[0].strip()
+                if not stripped:
+                    continue
+                parts = [p for p in re.split(r"[,\s;]+", stripped) if p]
+                try:
+                    values = [float(p) for p in parts]
+                except ValueError:
+                    if not rows:  # a column-title line before the data is fine
+                        continue
+                    raise DataFileError(f"{path}, line {lineno}: expected numbers, got {stripped!r}") from None
+                if len(values) not in (2, 3):
+                    raise DataFileError(
+                        f"{path}, line {lineno}: expected 2 or 3 columns (wavelength_nm n [k]), got {len(values)}"
+                    )
+                if rows and len(values) != len(rows[0]):
+                    raise DataFileError(f"{path}, line {lineno}: every row needs the same number of columns")
+                rows.append(values)
+    except FileNotFoundError:
+        raise DataFileError(f"n,k file {path} does not exist") from None
+    except IsADirectoryError:
+        raise DataFileError(f"n,k file {path} is a folder, not a file") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise DataFileError(f"cannot read n,k file {path}: {exc}") from None
+    if not rows:
+        raise DataFileError(f"n,k file {path} has no rows of wavelength_nm n k")
+    table = np.array(rows, dtype=float)
+    if table.shape[1] == 2:
+        table = np.column_stack([table, np.zeros(len(table))])
+    return table
+
+
+def header_range(header, fallback=None):
+    """The ``range_nm`` of a header as two floats (or ``fallback``)."""
+    text = header.get("range_nm", "")
+    numbers = re.findall(r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?", text)
+    if len(numbers) >= 2:
+        return float(numbers[0]), float(numbers[1])
+    return fallback
+
+
+def read_nk_file(path, *, name=None) -> TabulatedMaterial:
+    """Read an nkdata-format file into a :class:`TabulatedMaterial` (uncached)."""
+    path = Path(path)
+    header = read_header(path)
+    table = _parse_rows(path)
+    wl, n, k = table.T
+    name = header.get("material") or name or path.stem.split("__")[0]
+    dataset = header.get("dataset") or "file"
+    kind = header.get("kind", "dielectric").strip().lower() or "dielectric"
+    if kind not in KINDS:
+        raise DataFileError(f"{path}: kind must be one of {', '.join(KINDS)}, got {kind!r}")
+    # A header that states its range knows its unit; a bare table ending below 50 "nm" is far
+    # more likely a table in micrometres than extreme-ultraviolet data.
+    if wl[-1] < 50 and "range_nm" not in header:
+        raise DataFileError(
+            f"{path}: the wavelengths end at {wl[-1]:g}, which looks like micrometres; "
+            "the first column must be in nm"
+        )
+    return TabulatedMaterial(
+        wl, n, k, name=name, dataset=dataset, reference=header.get("reference", ""), kind=kind,
+        header=header,
+    )
+
+
+@functools.lru_cache(maxsize=256)
+def _cached(path_text: str, mtime_ns: int, size: int) -> TabulatedMaterial:
+    return read_nk_file(path_text)
+
+
+def load_nk_file(path) -> TabulatedMaterial:
+    """Load a user's n,k file (``file:PATH``); parsed once and cached while unchanged.
+
+    Parameters
+    ----------
+    path : str or path-like
+        A file of rows ``wavelength_nm n k`` (or ``wavelength_nm n``), optionally with the
+        ``# key: value`` header of the shipped tables.
+
+    Returns
+    -------
+    TabulatedMaterial
+    """
+    path = Path(os.path.expanduser(str(path)))
+    try:
+        st = path.stat()
+    except FileNotFoundError:
+        raise DataFileError(f"n,k file {path} does not exist") from None
+    except OSError as exc:
+        raise DataFileError(f"cannot read n,k file {path}: {exc}") from None
+    if path.is_dir():
+        raise DataFileError(f"n,k file {path} is a folder, not a file")
+    return _cached(str(path.resolve()), st.st_mtime_ns, st.st_size)
+
+
+def _format_value(x: float) -> str:
+    return f"{x:.10g}"
+
+
+def write_nk_file(fh, header: dict, wavelength_nm, n, k) -> None:
+    """Write an nkdata file: ``# key: value`` header lines, then ``wavelength_nm n k`` rows."""
+    fh.write("# filmoptic optical constants (N = n + i k, k >= 0; wavelengths in nm)\n")
+    for key, value in header.items():
+        fh.write(f"# {key}: {value}\n")
+    fh.write("# columns: wavelength_nm n k\n")
+    for w, nn, kk in zip(wavelength_nm, n, k):
+        fh.write(f"{_format_value(w)} {_format_value(nn)} {_format_value(kk)}\n")
+
+
