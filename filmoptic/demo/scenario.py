@@ -43,3 +43,10 @@ FIT_MODEL_STACK = "cauchy(?,?,0) 150..500nm / glass 1mm"
 FIT_NOISE_ABS = 0.004       # standard deviation of the added noise, as a fraction of T
 FIT_SEED = 20261202
 FIT_WAVELENGTHS_NM = (400.0, 1000.0, 2.0)
+
+# Job 3 (continued): what was coated, and what the next run is for (added for the thickness demo).
+LUX_STACK = "Ti ? / glass 4mm"      # the titanium film on the door glass whose thickness the lux reading gives
+NEXT_RUN_MATERIAL = "Ti"            # the next run makes the cabinet semi-mirror in this metal
+
+# Job 2 (continued): thicknesses charted for the silicon offcuts (added for the colour demo).
+OXIDE_ON_SILICON_RANGE_NM = (0.0, 600.0, 2.0)

@@ -1,0 +1,107 @@
+"""``filmoptic compare``: candidate materials side by side for the same target."""
+
+from __future__ import annotations
+
+import click
+
+from filmoptic.cli._common import (
+    ambient_option,
+    angle_option,
+    echo_caution,
+    emit_json,
+    extrapolate_option,
+    json_option,
+    percent,
+    print_table,
+    user_errors,
+)
+from filmoptic.cli.solve import EYE_CAUTION, build_conditions, condition_json, condition_options, needs_eye_caution
+
+
+def _num(value, fmt):
+    return "–" if value is None else format(value, fmt)
+
+
+@click.command()
+@click.argument("materials", nargs=-1, required=True)
+@click.option("--on", "substrate", required=True, metavar="SUBSTRATE",
+              help='The substrate as in stack notation, e.g. "glass 4mm" (a slab) or "Si" (a half-space).')
+@condition_options
+@click.option("--range", "range_text", metavar="START:STOP",
+              help="Thicknesses to search, nm (default: 0:100 for metals, 0:500 otherwise).")
+@angle_option
+@ambient_option
+@extrapolate_option
+@json_option
+def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_json, **opts):
+    """Compare candidate materials for the same target.
+
+    Each MATERIAL is tried as a single layer on the substrate, solved for the same condition as
+    'filmoptic solve' takes (--luminous-T, --luminous-R, --T-at, --R-at, --lab, --hex, --reading),
+    and its first answer is summarised:
+
+    \b
+      thickness   the thinnest layer that meets the target (or best colour match)
+      Tv, Rv      luminous transmittance and reflectance from the coated side (ISO 9050, D65)
+      Rv back     luminous reflectance seen through the substrate
+      A           luminous-weighted absorptance (light turned into heat in the film)
+      C* refl/trans  CIELAB chroma of the tint: 0 is neutral grey, above ~5 a visible tint
+      per nm      how far a 1 nm thickness error moves the target (percentage points, or ΔE00)
+
+    Example:
+
+        filmoptic compare Ti Cr Ni Al Ag --on "glass 4mm" --luminous-T 30%
+
+    A thin metal film's optical constants differ from the bulk values in the tables; treat the
+    thicknesses as a starting point for a calibration run.
+    """
+    from filmoptic.choose import compare_materials
+    from filmoptic.units import parse_range_nm
+
+    with user_errors():
+        range_nm = None if range_text is None else parse_range_nm(range_text)[:2]
+        conditions = build_conditions(opts)
+        table = compare_materials(materials, substrate, conditions, range_nm=range_nm, angle_deg=angle,
+                                  extrapolate=extrapolate, ambient=ambient)
+    solved = [c.solution for c in table.candidates if c.solution is not None]
+    if not solved:
+        from filmoptic.errors import TargetError
+
+        raise TargetError("no candidate meets the target: " + "; ".join(c.note for c in table.candidates))
+    if needs_eye_caution(conditions, solved):
+        echo_caution(EYE_CAUTION)
+    if as_json:
+        emit_json({
+            "substrate": table.substrate,
+            "condition": condition_json(conditions[0]),
+            "conditions": [condition_json(c) for c in conditions],
+            "candidates": [{k: v for k, v in c.__dict__.items() if k != "solution"} for c in table.candidates],
+        })
+        return
+    colour_target = conditions[0].kind == "colour"
+    for c in conditions:
+        click.echo(f"Condition: {c.label()}" + ("" if c.kind == "colour" else f" = {percent(c.value)} %"))
+    click.echo(f"Substrate: {table.substrate}")
+    click.echo("")
+    headers = ["material", "thickness (nm)", "Tv %", "Rv %", "Rv back %", "A %", "C* refl", "C* back",
+               "C* trans", "ΔE00 per nm" if colour_target else "% per nm"]
+    rows = []
+    notes = []
+    for c in table.candidates:
+        if c.thickness_nm is None:
+            rows.append([c.material, "out of reach"] + ["–"] * (len(headers) - 2))
+            notes.append(f"{c.material}: {c.note}")
+            continue
+        thickness = f"{c.thickness_nm:.2f}"
+        if c.high_nm is not None and c.high_nm > c.low_nm:
+            thickness += f" ({c.low_nm:.1f}–{c.high_nm:.1f})"
+        change = _num(c.change_per_nm, ".3f") if colour_target else percent(c.change_per_nm, 3)
+        rows.append([c.material, thickness, percent(c.luminous_T), percent(c.luminous_R),
+                     percent(c.luminous_R_reverse), percent(c.absorptance), _num(c.reflected_chroma, ".1f"),
+                     _num(c.reflected_reverse_chroma, ".1f"), _num(c.transmitted_chroma, ".1f"), change])
+    print_table(headers, rows)
+    for note in notes:
+        click.echo(note)
+    if any(c.solutions > 1 for c in table.candidates):
+        click.echo("Some materials meet the target at several thicknesses; the thinnest is shown "
+                   "('filmoptic solve' lists them all).")

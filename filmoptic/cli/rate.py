@@ -1,0 +1,100 @@
+"""``filmoptic rate``: deposition rate from calibration runs, and the time for the next run."""
+
+from __future__ import annotations
+
+import click
+
+from filmoptic.cli._common import emit_json, json_option, print_table, user_errors
+
+
+def _fmt_time(seconds: float) -> str:
+    minutes, secs = divmod(seconds, 60.0)
+    return f"{seconds:.0f} s ({int(minutes)} min {secs:.0f} s)" if seconds >= 60 else f"{seconds:.1f} s"
+
+
+def _pm(sigma, fmt: str) -> str:
+    return "" if sigma is None else f" ± {format(sigma, fmt)}"
+
+
+@click.command()
+@click.option(
+    "--run", "runs", multiple=True, required=True, metavar="DURATION:THICKNESS",
+    help="A calibration run (repeatable): its deposition time (300s, 5min, 1h, 1h30min) and the "
+         "thickness it gave: a length (21.8nm), 'monitor=LENGTH' for a crystal-monitor reading "
+         "(needs --tooling), or a 'filmoptic solve --json' output file (its first solution's "
+         "thickness_nm, with half the low_nm..high_nm interval as the uncertainty).",
+)
+@click.option("--target", metavar="THICKNESS", help="Thickness wanted from the next run, e.g. 15nm.")
+@click.option(
+    "--tooling", type=float, metavar="FACTOR",
+    help="Crystal-monitor tooling factor: measured ÷ indicated thickness. Converts monitor=… runs "
+         "and gives the monitor end point for --target.",
+)
+@click.option(
+    "--through-origin/--with-offset", default=None,
+    help="Fit the rate alone through the origin, or the rate and a start-up offset. Default: "
+         "through the origin for one run, with an offset for two or more.",
+)
+@json_option
+def rate(runs, target, tooling, through_origin, as_json):
+    """Deposition rate from calibration runs, and the time for the next run.
+
+    Each run is a timed deposition and the thickness it produced. The thickness grows as
+
+        thickness = rate × time + offset
+
+    where the offset (usually negative) is what the start-up of the source costs; its dead time is
+    -offset/rate. Two or more runs fit both by least squares; one run fixes the rate through the
+    origin. Uncertainties are one standard deviation: from the runs' own uncertainties when every
+    run has one (solve files), otherwise from the scatter about the line (three runs or more).
+
+    Example:
+
+    \b
+        filmoptic rate --run 4min:9.1nm --run 10min:21.8nm --target 15nm
+
+    A thickness can come straight from a solve result:
+
+    \b
+        filmoptic solve "Ti ? / glass 4mm" --reading 318/1045 --source A \\
+            --json > run2.json
+        filmoptic rate --run 4min:9.1nm --run 10min:run2.json --target 15nm
+
+    The rate drifts with target wear, pressure and power; check it regularly.
+    """
+    from filmoptic.rate import fit_rate, parse_run
+    from filmoptic.units import parse_length_nm
+
+    with user_errors():
+        parsed = [parse_run(text, tooling_factor=tooling) for text in runs]
+        target_nm = None if target is None else parse_length_nm(target, what="--target", allow_zero=False)
+        fit = fit_rate(parsed, target_nm=target_nm, tooling_factor=tooling, through_origin=through_origin)
+
+    if as_json:
+        emit_json(fit)
+        return
+    rows = [
+        [r.source, f"{r.duration_s:g}", f"{r.thickness_nm:.2f}{_pm(r.sigma_nm, '.2f')}",
+         f"{fit.rate_nm_per_s * r.duration_s + fit.offset_nm:.2f}"]
+        for r in fit.runs
+    ]
+    print_table(["run thickness", "time (s)", "thickness (nm)", "fitted (nm)"], rows, title="Calibration runs")
+    click.echo("")
+    click.echo(
+        f"Rate:    {fit.rate_nm_per_s:.4g}{_pm(fit.rate_sigma_nm_per_s, '.2g')} nm/s "
+        f"({fit.rate_nm_per_s * 60:.4g} nm/min)"
+    )
+    if fit.through_origin:
+        click.echo("Offset:  0 (fitted through the origin)")
+    else:
+        dead = f" (dead time {fit.dead_time_s:.3g} s)" if fit.offset_nm < 0 else ""
+        click.echo(f"Offset:  {fit.offset_nm:.3g}{_pm(fit.offset_sigma_nm, '.2g')} nm{dead}")
+    if fit.rate_sigma_nm_per_s is None:
+        click.echo("Uncertainty: not available (the runs determine the line exactly; add a run).")
+    if fit.time_s is not None:
+        click.echo(
+            f"Time for {fit.target_nm:g} nm: {_fmt_time(fit.time_s)}"
+            f"{_pm(fit.time_sigma_s, '.2g')}{' s' if fit.time_sigma_s is not None else ''}"
+        )
+        if fit.monitor_endpoint_nm is not None:
+            click.echo(f"Crystal monitor end point: {fit.monitor_endpoint_nm:.2f} nm indicated")

@@ -1,0 +1,114 @@
+"""Demo part "thickness": how thick to go, how thick it came out, how long to run next time.
+
+All inputs come from the fictional scenario in :mod:`filmoptic.demo.scenario`.
+"""
+
+from __future__ import annotations
+
+import csv
+import pathlib
+
+__all__ = ["run"]
+
+
+def _write_csv(path: pathlib.Path, header, rows) -> None:
+    from filmoptic.cli._common import write_atomically
+
+    def write(fh):
+        writer = csv.writer(fh, lineterminator="\n")
+        writer.writerow(header)
+        writer.writerows(rows)
+
+    write_atomically(path, write)
+
+
+def _pct(value) -> str:
+    return "–" if value is None else f"{100 * value:.1f} %"
+
+
+def run(outdir: pathlib.Path, say) -> None:
+    """Run the thickness part of the demo, writing its tables and a plot into ``outdir``."""
+    import numpy as np
+
+    from filmoptic.choose import compare_materials
+    from filmoptic.demo import scenario as sc
+    from filmoptic.rate import fit_rate, parse_run
+    from filmoptic.solve import Reading, Target, parse_reading, solve_thickness
+
+    outdir = pathlib.Path(outdir)
+
+    # 1. Which metal, and how thick, for a semi-mirror passing the target luminous transmittance.
+    target = Target("luminous_T", sc.MIRROR_TARGET_LUMINOUS_T)
+    table = compare_materials(sc.MIRROR_CANDIDATES, sc.MIRROR_SUBSTRATE, target)
+    say(f"Semi-mirror on {sc.MIRROR_SUBSTRATE}, luminous T = {_pct(sc.MIRROR_TARGET_LUMINOUS_T)}:")
+    rows = []
+    for c in table.candidates:
+        if c.thickness_nm is None:
+            say(f"  {c.material:3s} cannot reach it ({c.note})")
+            continue
+        say(f"  {c.material:3s} {c.thickness_nm:6.2f} nm   Rv {_pct(c.luminous_R)} coated side, "
+            f"{_pct(c.luminous_R_reverse)} glass side, absorbs {_pct(c.absorptance)}, "
+            f"tint C* {c.reflected_chroma:.1f} (reflected), {c.transmitted_chroma:.1f} (transmitted)")
+        rows.append([c.material, f"{c.thickness_nm:.3f}", f"{c.luminous_T:.4f}", f"{c.luminous_R:.4f}",
+                     f"{c.luminous_R_reverse:.4f}", f"{c.absorptance:.4f}", f"{c.reflected_chroma:.2f}",
+                     f"{c.transmitted_chroma:.2f}", f"{c.change_per_nm:.5f}"])
+    _write_csv(outdir / "thickness_compare.csv",
+               ["material", "thickness_nm", "luminous_T", "luminous_R", "luminous_R_glass_side",
+                "absorptance", "chroma_reflected", "chroma_transmitted", "luminous_T_change_per_nm"], rows)
+    say("  → thickness_compare.csv")
+
+    # 2. The lux-meter reading after the titanium run: thickness with an uncertainty.
+    ratio = parse_reading(f"{sc.LUX_COATED}/{sc.LUX_OPEN}")
+    reading = Reading(ratio, source=sc.LUX_SOURCE, detector="photopic", reference="open",
+                      uncertainty=sc.LUX_UNCERTAINTY * ratio)
+    result = solve_thickness(sc.LUX_STACK, reading)
+    say("")
+    say(f"Lux meter: {sc.LUX_COATED:g} lx through the coated glass, {sc.LUX_OPEN:g} lx open beam "
+        f"(illuminant {sc.LUX_SOURCE} lamp) → ratio {_pct(ratio)} ± {100 * sc.LUX_UNCERTAINTY:g} % of it")
+    if not result.solutions:
+        say(f"  {result.message}")
+        return
+    measured = result.solutions[0]
+    say(f"  {sc.LUX_STACK.replace('?', f'{measured.thickness_nm:.2f} nm')}: film between "
+        f"{measured.low_nm:.2f} and {measured.high_nm:.2f} nm "
+        f"(the ratio falls {abs(100 * measured.slope_per_nm):.2f} percentage points per nm)")
+    _write_csv(outdir / "thickness_reading.csv",
+               ["reading", "thickness_nm", "low_nm", "high_nm", "slope_per_nm"],
+               [[f"{ratio:.5f}", f"{measured.thickness_nm:.3f}", f"{measured.low_nm:.3f}",
+                 f"{measured.high_nm:.3f}", f"{measured.slope_per_nm:.5f}"]])
+
+    # A picture of the same: the modelled ratio against thickness, with the reading's band.
+    from filmoptic.plots import new_figure, save_figure
+    from filmoptic.solve import evaluate_condition
+
+    grid = np.linspace(0.0, 40.0, 161)
+    fig, ax = new_figure(figsize=(6, 4))
+    ax.plot(grid, 100 * evaluate_condition(sc.LUX_STACK, reading, grid), color="k", label="modelled lux ratio")
+    ax.axhspan(100 * (ratio - reading.uncertainty), 100 * (ratio + reading.uncertainty), color="tab:orange",
+               alpha=0.3, label="reading ± uncertainty")
+    ax.axvspan(measured.low_nm, measured.high_nm, color="tab:blue", alpha=0.3, label="thickness interval")
+    ax.set_xlabel("Ti thickness (nm)")
+    ax.set_ylabel("lux ratio, coated / open (%)")
+    ax.set_title("Thickness from a lux-meter reading (fictional scenario)")
+    ax.legend()
+    save_figure(fig, outdir / "thickness_lux.png")
+    say("  → thickness_reading.csv, thickness_lux.png")
+
+    # 3. Time for the next run: rate from the two calibration runs, target from step 1.
+    runs = [parse_run(f"{duration}:{thickness}", tooling_factor=sc.QCM_TOOLING_FACTOR)
+            for duration, thickness in sc.CALIBRATION_RUNS]
+    design = next(c for c in table.candidates if c.material == sc.NEXT_RUN_MATERIAL)
+    fit = fit_rate(runs, target_nm=design.thickness_nm, tooling_factor=sc.QCM_TOOLING_FACTOR)
+    say("")
+    say("Calibration runs: " + ", ".join(f"{d} → {t}" for d, t in sc.CALIBRATION_RUNS))
+    say(f"  rate {fit.rate_nm_per_s * 60:.3f} nm/min, start-up offset {fit.offset_nm:.2f} nm "
+        f"(two runs fix the line exactly; a third would give its uncertainty)")
+    minutes, seconds = divmod(fit.time_s, 60)
+    say(f"  next run for {design.thickness_nm:.2f} nm of {sc.NEXT_RUN_MATERIAL}: "
+        f"{fit.time_s:.0f} s ({int(minutes)} min {seconds:.0f} s)")
+    _write_csv(outdir / "thickness_next_run.csv",
+               ["rate_nm_per_s", "offset_nm", "target_nm", "time_s"],
+               [[f"{fit.rate_nm_per_s:.6f}", f"{fit.offset_nm:.4f}", f"{design.thickness_nm:.3f}",
+                 f"{fit.time_s:.1f}"]])
+    say("  → thickness_next_run.csv")
+    say("  Rates drift with target wear, pressure and power: check with a test piece before the real part.")
