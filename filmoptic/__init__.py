@@ -14,8 +14,8 @@ __all__ = ["__version__"]
 __version__ = "0.1.0"
 
 _SUBMODULES = {
-    "errors", "units", "materials", "stack", "engine", "colour", "solve", "rate",
-    "fit", "measured", "choose", "plots", "demo",
+    "errors", "units", "materials", "stack", "engine", "colorimetry", "solve", "rate",
+    "fit", "measured", "envelope", "choose", "plots", "demo",
 }
 
 

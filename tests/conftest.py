@@ -59,3 +59,16 @@ def assert_user_error(result: CliResult, *fragments: str) -> None:
     assert "Traceback" not in result.stderr
     for fragment in fragments:
         assert fragment.lower() in lines[0].lower(), (fragment, lines[0])
+
+
+@pytest.fixture(autouse=True)
+def _numpy_default_printing():
+    """Run every test with numpy's own array printing.
+
+    colour-science switches numpy to legacy (1.13) array printing when it is first imported (by a
+    test module or inside a command), which would make docstring examples depend on test order.
+    """
+    import numpy as np
+
+    with np.printoptions(legacy=False):
+        yield

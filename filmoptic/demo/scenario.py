@@ -21,6 +21,8 @@ SCENARIO_NAME = "Tarnwick Glass Studio (fictional)"
 MIRROR_SUBSTRATE = "glass 4mm"
 MIRROR_TARGET_LUMINOUS_T = 0.30
 MIRROR_CANDIDATES = ("Ti", "Cr", "Ni", "Al", "Ag")
+MIRROR_EXAMPLE_STACK = "Cr 10nm / glass 4mm"      # invented: a first guess the studio tries
+SPECTRA_WAVELENGTHS_NM = (380.0, 780.0, 2.0)       # invented: the studio's usual plot range
 
 # Job 2: oxide colours.
 OXIDE_ON_METAL_STACK = "TiO2 ? / Ti"

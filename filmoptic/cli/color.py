@@ -1,0 +1,243 @@
+"""``filmoptic color``: the colour a coated part shows, and how much light it passes to the eye."""
+
+from __future__ import annotations
+
+import click
+
+from filmoptic.cli._common import (
+    ambient_option,
+    angle_option,
+    check_plot_path,
+    echo_caution,
+    emit_json,
+    extrapolate_option,
+    json_option,
+    percent,
+    print_table,
+    save_plot,
+    user_errors,
+)
+
+__all__ = ["color", "illuminant_option", "observer_option", "colour_json", "LOW_LIGHT_CAUTION"]
+
+illuminant_option = click.option(
+    "--illuminant", default="D65", show_default=True, metavar="NAME|FILE",
+    help="Light the part is seen under: D65 (daylight), D50, A (incandescent), C, E, F1–F12 "
+         "(fluorescent), LED-B1…LED-B5, LED-BH1, LED-RGB1, LED-V1, LED-V2, or a two-column file "
+         "'wavelength_nm value' with the lamp's relative spectrum covering 380–780 nm.",
+)
+observer_option = click.option(
+    "--observer", type=click.Choice(["2", "10"]), default="2", show_default=True,
+    help="CIE standard observer: 2 (1931, small patches) or 10 (1964, large patches).",
+)
+
+#: Shown when a coating passes little light: people look at the sun or arcs through such things.
+LOW_LIGHT_CAUTION = (
+    "a luminous transmittance of {t} % is computed, not measured, and says nothing about ultraviolet "
+    "or infrared; never use a coated piece to look at the sun, a welding arc or a laser instead of a "
+    "certified filter."
+)
+LOW_LIGHT_LIMIT = 0.10
+
+_VIEWS = (
+    ("reflected", "reflected, coated side"),
+    ("reflected_reverse", "reflected, substrate side"),
+    ("transmitted", "transmitted"),
+)
+
+
+def colour_json(colour) -> dict:
+    """The JSON form of one :class:`~filmoptic.colorimetry.Colour` (fractions and CIE units)."""
+    return {
+        "XYZ": colour.XYZ, "xy": colour.xy, "Lab": colour.Lab, "LCh": colour.LCh,
+        "rgb8": colour.rgb8, "hex": colour.hex, "in_gamut": colour.in_gamut,
+    }
+
+
+def _colour_row(label, colour) -> list:
+    L, a, b = (float(v) for v in colour.Lab)
+    _, C, h = (float(v) for v in colour.LCh)
+    x, y = (float(v) for v in colour.xy)
+    mark = "" if colour.in_gamut else " *"
+    return [label, f"{L:.1f}", f"{a:+.1f}", f"{b:+.1f}", f"{C:.1f}", f"{h:.0f}",
+            f"{x:.4f}", f"{y:.4f}", f"{float(colour.XYZ[1]):.2f}", colour.hex + mark]
+
+
+def _main_tables(result, title) -> None:
+    rows = []
+    for key, label in _VIEWS:
+        colour = getattr(result, key)
+        if key == "transmitted" and not result.transmission_exits:
+            label = "into the substrate"
+        if colour is not None:
+            rows.append(_colour_row(label, colour))
+    print_table(["view", "L*", "a*", "b*", "C*", "h°", "x", "y", "Y", "sRGB"], rows, title=title)
+    lum = result.luminous
+    click.echo("")
+    t_label = "transmittance T" if result.transmission_exits else "into the substrate (absorbed there)"
+    lum_rows = [[t_label, percent(lum.T)], ["reflectance R, coated side", percent(lum.R)]]
+    if lum.R_reverse is not None:
+        lum_rows.append(["reflectance R, substrate side", percent(lum.R_reverse)])
+    print_table(["luminous value", "%"], lum_rows)
+
+
+def _angle_rows(angles, result) -> list:
+    rows = []
+    for i, angle in enumerate(angles):
+        row = [f"{angle:g}"]
+        for key, _ in _VIEWS:
+            colour = getattr(result, key)
+            if colour is None:
+                continue
+            one = colour[i]
+            L, a, b = (float(v) for v in one.Lab)
+            row += [f"{L:.1f}", f"{a:+.1f}", f"{b:+.1f}", one.hex + ("" if one.in_gamut else " *")]
+        row += [percent(result.luminous.T[i]), percent(result.luminous.R[i])]
+        if result.luminous.R_reverse is not None:
+            row.append(percent(result.luminous.R_reverse[i]))
+        rows.append(row)
+    return rows
+
+
+def _angle_headers(has_reverse: bool) -> list:
+    headers = ["angle°"]
+    for key, short in (("reflected", "R"), ("reflected_reverse", "Rrev"), ("transmitted", "T")):
+        if key == "reflected_reverse" and not has_reverse:
+            continue
+        headers += [f"{short} L*", f"{short} a*", f"{short} b*", f"{short} sRGB"]
+    headers += ["T lum %", "R lum %"] + (["Rrev lum %"] if has_reverse else [])
+    return headers
+
+
+def _luminous_json(lum, index=None) -> dict:
+    def pick(v):
+        return None if v is None else (v if index is None else v[index])
+
+    return {"T": pick(lum.T), "R": pick(lum.R), "R_reverse": pick(lum.R_reverse)}
+
+
+def _angles_json(angles, result) -> list:
+    entries = []
+    for i, angle in enumerate(angles):
+        entries.append({
+            "angle_deg": float(angle),
+            "reflected": colour_json(result.reflected[i]),
+            "reflected_reverse": None if result.reflected_reverse is None else colour_json(result.reflected_reverse[i]),
+            "transmitted": colour_json(result.transmitted[i]),
+            "luminous": _luminous_json(result.luminous, i),
+        })
+    return entries
+
+
+def caution_if_dark(luminous_T) -> None:
+    """Warn on stderr when light does pass but little of it (the case people misuse as a filter)."""
+    import numpy as np
+
+    t = np.atleast_1d(np.asarray(luminous_T, dtype=float))
+    passing = t[t > 1e-6]
+    if passing.size and passing.min() < LOW_LIGHT_LIMIT:
+        echo_caution(LOW_LIGHT_CAUTION.format(t=percent(passing.min())))
+
+
+@click.command()
+@click.argument("stack")
+@illuminant_option
+@observer_option
+@angle_option
+@click.option(
+    "--angles", metavar="ANGLES",
+    help="Also show how the colour travels with viewing angle: START:STOP:STEP or a comma list "
+         "in degrees (e.g. 0:60:15). Adds a table, an 'angles' list to --json and a row per angle "
+         "to the swatch.",
+)
+@ambient_option
+@click.option(
+    "--swatch", "swatch_path", metavar="FILE",
+    help="Write a printable swatch (about 15 cm wide) of the colours with their values: .png, .svg or .pdf.",
+)
+@extrapolate_option
+@json_option
+def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extrapolate, as_json):
+    """Colour and luminous values of STACK seen in reflection and transmission.
+
+    STACK is written in the order light meets it and must have no unknowns, e.g.
+
+    \b
+        filmoptic color "TiO2 60nm / Ti"
+        filmoptic color "Ti 12nm / glass 4mm" --illuminant A --angles 0:60:15
+
+    Three colours are reported: reflected from the coated side, reflected from the substrate side
+    (only when the substrate is a slab with a thickness, such as 'glass 4mm'), and transmitted.
+    Each is given as CIE XYZ (Y from 0 to 100), chromaticity x, y, CIELAB L*, a*, b*, chroma C*
+    and hue angle h, and the sRGB colour a screen would show. CIELAB uses the illuminant's own
+    white, so a neutral grey has a* = b* = 0 under any light; for display, colours are adapted to
+    D65 with the Bradford transform. A colour no screen can show is marked '*' (in_gamut false in
+    JSON) and shown with its chroma reduced at the same lightness and hue, never clipped.
+
+    When the substrate is an absorbing half-space (a metal or silicon written without a
+    thickness), the transmitted light enters it and is absorbed: the table says so, and the swatch
+    leaves it out.
+
+    Luminous transmittance and reflectance follow ISO 9050 (the light's spectrum × the eye's
+    daylight sensitivity V(λ), 380–780 nm); with another --illuminant its spectrum replaces D65.
+    Light is unpolarised.
+
+    With --json the output holds exactly the keys reflected, reflected_reverse (null for a
+    half-space substrate), transmitted and luminous (T, R, R_reverse as fractions), plus angles
+    when --angles is given.
+
+    Colours on screen and in print depend on the device; compare physical samples under the
+    chosen light before promising a colour to a customer.
+    """
+    import numpy as np
+
+    from filmoptic.colorimetry import appearance, check_illuminant, check_observer
+    from filmoptic.stack import parse_stack
+    from filmoptic.units import parse_angles_deg
+
+    with user_errors():
+        if swatch_path:
+            check_plot_path(swatch_path)
+        obs = check_observer(observer)
+        label = check_illuminant(illuminant)
+        angle_list = parse_angles_deg(angles) if angles else None
+        parsed = parse_stack(stack, ambient=ambient)
+        result = appearance(parsed, illuminant=illuminant, observer=obs, angle_deg=angle, extrapolate=extrapolate)
+        by_angle = (appearance(parsed, illuminant=illuminant, observer=obs, angle_deg=angle_list,
+                               extrapolate=extrapolate) if angle_list is not None else None)
+
+    if as_json:
+        payload = {
+            "reflected": colour_json(result.reflected),
+            "reflected_reverse": None if result.reflected_reverse is None else colour_json(result.reflected_reverse),
+            "transmitted": colour_json(result.transmitted),
+            "luminous": _luminous_json(result.luminous),
+        }
+        if by_angle is not None:
+            payload["angles"] = _angles_json(angle_list, by_angle)
+        emit_json(payload)
+    else:
+        title = (f"Colour of {stack!r} — illuminant {label}, {obs}° observer, {angle:g}° incidence, "
+                 f"ambient {ambient}")
+        _main_tables(result, title)
+        if by_angle is not None:
+            click.echo("")
+            print_table(_angle_headers(by_angle.reflected_reverse is not None),
+                        _angle_rows(angle_list, by_angle), title="Colour versus viewing angle")
+        flagged = [result.reflected, result.reflected_reverse, result.transmitted]
+        if by_angle is not None:
+            flagged += [by_angle.reflected, by_angle.reflected_reverse, by_angle.transmitted]
+        if any(c is not None and not np.all(c.in_gamut) for c in flagged):
+            click.echo("* outside the sRGB gamut: shown with reduced chroma at the same lightness and hue.")
+
+    if swatch_path:
+        from filmoptic.plots.swatch import swatch_figure
+
+        with user_errors():
+            fig = swatch_figure(result, stack_text=stack, ambient=ambient, angle_deg=angle,
+                                by_angle=by_angle, angles_deg=angle_list)
+            save_plot(fig, swatch_path)
+        if not as_json:
+            click.echo(f"Swatch written to {swatch_path}")
+    if result.transmission_exits:
+        caution_if_dark(result.luminous.T)

@@ -1,0 +1,26 @@
+"""Run the examples in the public modules' docstrings (they are part of the documentation)."""
+
+from __future__ import annotations
+
+import doctest
+import importlib
+
+import numpy as np
+import pytest
+
+MODULES = [
+    "filmoptic.units",
+    "filmoptic.colorimetry",
+    "filmoptic.plots.chart",
+]
+
+
+@pytest.mark.parametrize("name", MODULES)
+def test_docstring_examples(name):
+    module = importlib.import_module(name)
+    # colour-science switches numpy to legacy array printing when any test imports it; the
+    # examples are written for numpy's own printing, so run them with it whatever the test order.
+    with np.printoptions(legacy=False):
+        failures, attempted = doctest.testmod(module, optionflags=doctest.NORMALIZE_WHITESPACE | doctest.ELLIPSIS)
+    assert attempted > 0, f"{name} has no docstring examples"
+    assert failures == 0

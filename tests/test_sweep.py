@@ -1,0 +1,118 @@
+"""The ``filmoptic sweep`` command and its chart."""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+
+from conftest import assert_user_error
+from filmoptic import colorimetry as cm
+
+SWEEP_KEYS = {
+    "thickness_nm", "luminous_T", "luminous_R", "reflected_Lab", "reflected_hex", "reflected_in_gamut",
+    "transmitted_Lab", "transmitted_hex", "transmitted_in_gamut",
+}
+
+
+def test_json_lists(run_cli):
+    result = run_cli(["sweep", "TiO2 ? / glass 2mm", "--range", "0:200:5", "--json"])
+    assert result.exit_code == 0, result.stderr
+    data = json.loads(result.stdout)
+    assert set(data) == SWEEP_KEYS
+    assert data["thickness_nm"] == [float(d) for d in range(0, 201, 5)]
+    assert all(len(data[k]) == 41 for k in SWEEP_KEYS)
+    assert all(len(lab) == 3 for lab in data["reflected_Lab"])
+    api = cm.colour_sweep("TiO2 ? / glass 2mm", np.arange(0.0, 201.0, 5.0))
+    np.testing.assert_allclose(data["reflected_Lab"], api.reflected.Lab, atol=1e-9)
+    assert data["transmitted_hex"] == api.transmitted.hex.tolist()
+    assert data["luminous_T"] == pytest.approx(api.luminous_T.tolist())
+
+
+def test_first_entry_is_the_bare_substrate(run_cli):
+    data = json.loads(run_cli(["sweep", "SiO2 ? / Si", "--range", "0:50:10", "--json"]).stdout)
+    bare = cm.appearance("Si")
+    assert data["reflected_hex"][0] == bare.reflected.hex
+    assert data["luminous_R"][0] == pytest.approx(bare.luminous.R, abs=1e-12)
+
+
+def test_whole_grid_in_one_engine_call(run_cli, monkeypatch):
+    # The sweep is vectorised: 1001 thicknesses cost one call of the engine.
+    import filmoptic.engine as engine
+
+    calls = []
+    original = engine.compute
+
+    def counting(*args, **kwargs):
+        calls.append(np.shape(kwargs.get("thickness_nm")))
+        return original(*args, **kwargs)
+
+    monkeypatch.setattr(engine, "compute", counting)
+    result = run_cli(["sweep", "[TiO2 20nm / SiO2 ?]x2 / glass 1mm", "--range", "0:1000:1", "--json"])
+    assert result.exit_code == 0, result.stderr
+    assert calls == [(1001, 1)]
+
+
+def test_table_in_percent(run_cli):
+    result = run_cli(["sweep", "Ti ? / glass 4mm", "--range", "0:20:10"])
+    assert result.exit_code == 0, result.stderr
+    api = cm.colour_sweep("Ti ? / glass 4mm", [0.0, 10.0, 20.0])
+    for t in api.luminous_T:
+        assert f"{100 * t:.2f}" in result.stdout
+    assert "T lum %" in result.stdout
+
+
+def test_opaque_substrate_note(run_cli):
+    assert "absorbs" in run_cli(["sweep", "TiO2 ? / Ti", "--range", "0:20:10"]).stdout
+
+
+@pytest.mark.parametrize("suffix, magic", [(".png", b"\x89PNG"), (".pdf", b"%PDF"), (".svg", b"<?xml")])
+def test_chart_files(run_cli, tmp_path, suffix, magic):
+    path = tmp_path / f"chart{suffix}"
+    result = run_cli(["sweep", "TiO2 ? / Ti", "--range", "0:250:2", "--chart", path, "--json"])
+    assert result.exit_code == 0, result.stderr
+    json.loads(result.stdout)  # --json keeps stdout pure even with a chart
+    assert path.read_bytes().startswith(magic)
+
+
+def test_chart_layout():
+    from filmoptic.plots.chart import A4_LANDSCAPE_IN, sweep_chart, thickness_ticks
+
+    sweep = cm.colour_sweep("TiO2 ? / glass 2mm", np.arange(0.0, 301.0, 1.0), illuminant="F11")
+    fig = sweep_chart(sweep)
+    assert tuple(fig.get_size_inches()) == pytest.approx(A4_LANDSCAPE_IN)
+    labels = {ax.get_xlabel() for ax in fig.axes}
+    assert "layer thickness (nm)" in labels and any(label.startswith("a*") for label in labels)
+    texts = " ".join(t.get_text() for t in fig.texts)
+    assert "TiO2 ? / glass 2mm" in texts and "F11" in texts and "2° observer" in texts
+    # Strips for reflected and transmitted, the luminous curves, the a*b* path.
+    assert len(fig.axes) == 4
+    assert thickness_ticks(0, 300).tolist() == [0, 50, 100, 150, 200, 250, 300]
+    assert thickness_ticks(40, 47).tolist()[0] == 40
+
+
+@pytest.mark.parametrize("args, fragments", [
+    (["sweep", "TiO2 60nm / Ti", "--range", "0:100:1"], ["?"]),
+    (["sweep", "TiO2 ? / SiO2 ? / Si", "--range", "0:100:1"], ["exactly one"]),
+    (["sweep", "cauchy(?,0.01,0) ? / glass", "--range", "0:100:1"], ["exactly one"]),
+    (["sweep", "TiO2 ? / Ti", "--range", "0:100"], ["--range"]),
+    (["sweep", "TiO2 ? / Ti", "--range", "100:0:1"], ["--range"]),
+    (["sweep", "TiO2 ? / Ti", "--range", "0:100:0"], ["step"]),
+    (["sweep", "TiO2 ? / Ti"], ["--range"]),
+    (["sweep", "TiO2 ? / Ti", "--range", "0:100:1", "--chart", "chart.bmp"], [".png"]),
+    (["sweep", "TiO2 ? / Ti", "--range", "0:100:1", "--illuminant", "F13"], ["illuminant"]),
+])
+def test_user_errors(run_cli, args, fragments):
+    assert_user_error(run_cli(args), *fragments)
+
+
+def test_opaque_substrate_chart_leaves_out_transmission():
+    from filmoptic.plots.chart import sweep_chart
+
+    sweep = cm.colour_sweep("TiO2 ? / Ti", np.arange(0.0, 101.0, 1.0))
+    assert sweep.transmission_exits is False
+    fig = sweep_chart(sweep)
+    assert len(fig.axes) == 3  # reflected strip, luminous R, a*b* path
+    assert cm.colour_sweep("TiO2 ? / glass", [10.0]).transmission_exits is True
+    assert cm.colour_sweep("TiO2 ? / Si 0.5mm", [10.0]).transmission_exits is True
