@@ -1,0 +1,198 @@
+"""``filmoptic fit``: thickness and optical constants from measured spectra."""
+
+from __future__ import annotations
+
+import math
+import time
+from contextlib import contextmanager
+
+import click
+
+from filmoptic.cli._common import (
+    FractionType,
+    ambient_option,
+    angle_option,
+    check_plot_path,
+    emit_json,
+    extrapolate_option,
+    json_option,
+    save_plot,
+    user_errors,
+)
+
+# Work shorter than this finishes before a progress bar would be worth drawing.
+_PROGRESS_AFTER_S = 1.0
+
+
+@contextmanager
+def _late_progress(label: str):
+    """A progress bar that appears on a terminal only once the work has taken over a second."""
+    import sys
+
+    state = {"bar": None, "done": 0, "start": time.monotonic()}
+
+    def report(done: int, total: int) -> None:
+        if not sys.stderr.isatty():
+            return
+        if state["bar"] is None:
+            if time.monotonic() - state["start"] < _PROGRESS_AFTER_S or done >= total:
+                state["done"] = done
+                return
+            state["bar"] = click.progressbar(length=total, label=label, file=sys.stderr)
+            state["bar"].__enter__()
+        state["bar"].update(max(done - state["done"], 0))
+        state["done"] = done
+
+    try:
+        yield report
+    finally:
+        if state["bar"] is not None:
+            state["bar"].__exit__(None, None, None)
+
+
+def _json_payload(result, spectra):
+    return {
+        "model": result.model,
+        "parameters": [
+            {"name": p.name, "value": p.value,
+             "stderr": p.stderr if math.isfinite(p.stderr) else None, "unit": p.unit}
+            for p in result.parameters
+        ],
+        "chi2_reduced": result.chi2_reduced,
+        "rms": result.rms,
+        "n_points": result.n_points,
+        "n_parameters": result.n_parameters,
+        "correlation": result.correlation,
+        "warnings": list(result.warnings),
+        "success": result.success,
+        "message": result.message,
+        "sigma_source": result.sigma_source,
+        "sigma": result.sigma,
+        "notes": list(result.notes),
+        "measured": [
+            {"path": str(s.path) if s.path else None, "quantity": s.quantity, "n_points": len(s),
+             "notes": list(s.notes)}
+            for s in spectra
+        ],
+        "fitted": [
+            {"quantity": f.quantity, "path": f.path, "wavelength_nm": f.wavelength_nm,
+             "measured": f.measured, "model": f.model}
+            for f in result.fitted
+        ],
+    }
+
+
+@click.command()
+@click.argument("model")
+@click.option(
+    "--measured", "files", multiple=True, required=True, metavar="FILE",
+    help="A measured T or R spectrum (repeatable; T and R files are fitted together). CSV, TSV or "
+         "space-separated text with a header such as 'wavelength (nm), T (%)'; an optional third "
+         "column is each value's standard uncertainty.",
+)
+@click.option(
+    "--quantity", "quantities", multiple=True, type=click.Choice(["T", "R", "t", "r"]),
+    help="What a file holds when its header does not say: once for all files, or once per "
+         "--measured in the same order.",
+)
+@angle_option
+@click.option(
+    "--polarization", type=click.Choice(["unpolarized", "s", "p"]), default="unpolarized",
+    show_default=True, help="Polarisation of the measuring beam.",
+)
+@ambient_option
+@click.option(
+    "--sigma", type=FractionType(), metavar="VALUE",
+    help="Standard uncertainty of each measured point where a file gives none, as a fraction "
+         "(0.003) or percent (0.3%). Without it σ is estimated from the residuals.",
+)
+@click.option(
+    "--range", "fit_range", metavar="START:STOP",
+    help="Fit only this wavelength range, nm (e.g. 420:950).",
+)
+@click.option(
+    "--starts", type=click.IntRange(1, 20), default=4, show_default=True,
+    help="How many of the best grid points the local refinement starts from.",
+)
+@click.option(
+    "--max-grid", type=click.IntRange(100, 2_000_000), default=40000, show_default=True,
+    help="Most model evaluations in the coarse global search.",
+)
+@extrapolate_option
+@click.option("--plot", "plot_path", metavar="FILE",
+              help="Write measured and fitted curves with residuals (.png, .svg or .pdf).")
+@json_option
+def fit(model, files, quantities, angle, polarization, ambient, sigma, fit_range, starts, max_grid,
+        extrapolate, plot_path, as_json):
+    """Fit thickness and optical constants of MODEL to measured spectra.
+
+    MODEL is a stack whose unknowns are written '?' (a default range) or LOW..HIGH: thicknesses
+    ('TiO2 100..400nm'), coefficients of cauchy(A,B,C), sellmeier(…), drude(…), lorentz(…) and
+    n=… models ('cauchy(?,?,0)', 'n=1.8..2.6'), and the volume fraction of a mix, for porosity
+    or roughness ('mix(TiO2,n=1,?)'). T and R spectra given together are fitted together, at
+    the angle of the measurement, with the back side of a thick substrate included. Default
+    ranges of '?': 0–150 nm for a metal film, 0–2000 nm for others, and for coefficients see
+    the documentation of filmoptic.fit.
+
+    A film's spectrum repeats with its thickness, so the fit first searches the whole thickness
+    range on a grid fine enough to resolve the fringes (plus a small grid over the
+    coefficients, and for a transparent film on glass the envelope method's estimate), then
+    refines the best few candidates by bounded least squares and keeps the best.
+
+    Reported: each value with its standard error from the Jacobian at the optimum, the
+    correlation matrix, the reduced χ² and the RMS residual. Warnings flag strongly correlated
+    parameters (|ρ| > 0.95), values the data cannot determine, values stuck at a range end, and
+    a second solution that fits almost as well.
+
+    Examples:
+
+    \b
+        filmoptic fit "cauchy(?,?,0) 150..500nm / glass 1mm" --measured oxide_T.csv
+        filmoptic fit "Au 10..80nm / glass 1mm" --measured T.csv --measured R.csv --plot fit.png
+        filmoptic fit "TiO2 ? / glass 1mm" --measured scan.txt --quantity T --sigma 0.3%
+
+    The result describes the model that fits best, not necessarily the film: check that the
+    residuals show no structure, and confirm critical parts with an independent measurement.
+    """
+    from filmoptic.errors import WavelengthRangeError
+    from filmoptic.fit import fit_spectra
+    from filmoptic.measured import read_spectrum
+    from filmoptic.stack import parse_stack
+    from filmoptic.units import parse_range_nm
+
+    with user_errors():
+        if quantities and len(quantities) not in (1, len(files)):
+            raise click.UsageError(
+                f"--quantity: give it once for all files or once per --measured ({len(files)}), "
+                f"not {len(quantities)} times"
+            )
+        per_file = [None] * len(files)
+        if quantities:
+            per_file = [q.upper() for q in (quantities * len(files) if len(quantities) == 1 else quantities)]
+        if plot_path:
+            check_plot_path(plot_path)
+        wl_range = parse_range_nm(fit_range, what="--range") if fit_range else None
+        stack = parse_stack(model, ambient=ambient)
+        spectra = [read_spectrum(path, quantity=q) for path, q in zip(files, per_file)]
+        with _late_progress("Fitting") as report:
+            try:
+                result = fit_spectra(
+                    stack, spectra, angle_deg=angle, polarization=polarization, sigma=sigma,
+                    wavelength_range_nm=wl_range, extrapolate=extrapolate, starts=starts,
+                    max_grid=max_grid, progress=report,
+                )
+            except WavelengthRangeError as exc:
+                raise WavelengthRangeError(f"{exc} — or fit only part of the spectrum (--range START:STOP)") from None
+        if plot_path:
+            from filmoptic.plots.fit import plot_fit
+
+            save_plot(plot_fit(result), plot_path)
+
+    if as_json:
+        emit_json(_json_payload(result, spectra))
+        return
+    from filmoptic.fit import format_report
+
+    click.echo(format_report(result, spectra))
+    if plot_path:
+        click.echo(f"\nPlot written to {plot_path}")
