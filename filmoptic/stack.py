@@ -1,0 +1,494 @@
+"""Stack notation and the :class:`Stack` / :class:`Layer` data model.
+
+A stack is written on one line, items in the order the light meets them, separated by ``/``::
+
+    TiO2 60nm / SiO2 95nm / glass 3mm
+    [TiO2 55nm / SiO2 92nm]x4 / glass 1mm
+    cauchy(?,?,0) 150..500nm / glass 1mm
+    Ti ? / glass 4mm
+
+A layer is ``MATERIAL THICKNESS``. The thickness always carries a unit (``nm``, ``um``/``µm``,
+``mm``), or is ``?`` (an unknown) or ``LOW..HIGH nm`` (a bounded unknown). Layers in nm or µm
+are coherent; an item in mm is a thick slab whose internal reflections add in intensity. The
+last item is the substrate: without a thickness a half-space (only its front surface counts),
+with one in mm a thick slab with the ambient behind it. ``[ … ]xN`` repeats a group (nested
+groups allowed); an unknown inside a group is one unknown shared by every repetition, as the
+same recipe is run each time. Materials are read by :func:`filmoptic.materials.parse_material`.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass, replace
+from functools import cached_property
+
+from filmoptic.errors import FilmopticError, StackSyntaxError
+from filmoptic.params import Free, Parameter, is_free
+from filmoptic.units import LENGTH_UNITS_NM
+
+__all__ = ["Layer", "Stack", "parse_stack", "MAX_REPEAT", "MAX_LAYERS"]
+
+#: Largest repeat count of a group (more is a typo, not a coating).
+MAX_REPEAT = 10_000
+#: Largest number of layers a stack may expand to.
+MAX_LAYERS = 100_000
+
+_NUM = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
+_UNIT = r"nm|um|µm|μm|mm"
+# The thickness at the end of an item, after white space: 55nm, 55 nm, ?, ?mm, 10..40nm, 55.
+_THICKNESS_RE = re.compile(
+    rf"(?:^|\s)(?P<thickness>\?\s*(?:{_UNIT})?|{_NUM}\s*\.\.\s*{_NUM}\s*(?:{_UNIT})?|{_NUM}\s*(?:{_UNIT})?)\s*$"
+)
+_REPEAT_RE = re.compile(r"^\s*[xX×*]\s*(\S*)\s*$")
+
+
+@dataclass(frozen=True)
+class Layer:
+    """One item of a stack.
+
+    Attributes
+    ----------
+    material : filmoptic.materials.Material
+        Its optical constants.
+    thickness_nm : float, Free or None
+        Thickness in nm; a :class:`~filmoptic.params.Free` for an unknown; None only for a
+        half-space substrate.
+    thick : bool
+        True for an incoherent thick slab (written in mm).
+    text : str
+        The item as the user wrote it.
+    item : int or None
+        Which written item this layer was expanded from. Copies made by a repeat group share
+        it, and with it their unknowns. None: the layer stands alone.
+    """
+
+    material: object
+    thickness_nm: float | Free | None
+    thick: bool = False
+    text: str = ""
+    item: int | None = None
+
+    @property
+    def label(self) -> str:
+        return self.text or f"{self.material} {self.thickness_nm}"
+
+
+@dataclass(frozen=True)
+class Stack:
+    """A coating stack: layers in the order light meets them, on a substrate, in an ambient.
+
+    Attributes
+    ----------
+    layers : tuple of Layer
+        Every item before the substrate (repeat groups expanded).
+    substrate : Layer
+        The last item: a half-space (``thickness_nm`` None) or a thick slab.
+    ambient : Material
+        The medium the light comes from.
+    exit_medium : Material
+        The medium behind a thick substrate slab (the ambient).
+    text : str
+        The stack as written.
+
+    Examples
+    --------
+    >>> s = parse_stack("n=2.3 ? / n=1.52")
+    >>> [p.name for p in s.parameters]
+    ['n=2.3 thickness (layer 1)']
+    >>> s.bind([60.0]).layers[0].thickness_nm
+    60.0
+    """
+
+    layers: tuple
+    substrate: Layer
+    ambient: object
+    exit_medium: object
+    text: str = ""
+
+    def __str__(self) -> str:
+        return self.text or " / ".join(layer.label for layer in (*self.layers, self.substrate))
+
+    # -- unknowns ---------------------------------------------------------------------------
+    @cached_property
+    def _slots(self):
+        """Parameters, and for each layer (substrate last) its thickness/material slots."""
+        parameters = []
+        seen = {}
+        per_layer = []
+        items = (*self.layers, self.substrate)
+        for index, layer in enumerate(items):
+            key = ("item", layer.item) if layer.item is not None else ("layer", index)
+            if key not in seen:
+                where = "substrate" if index == len(self.layers) else f"layer {index + 1}"
+                material_slots = []
+                for name, free in layer.material.free_parameters():
+                    kind = "fraction" if "fraction" in name.lower() else "coefficient"
+                    material_slots.append(len(parameters))
+                    parameters.append(Parameter(f"{name} ({where})", "", kind, free, index))
+                thickness_slot = None
+                if is_free(layer.thickness_nm):
+                    thickness_slot = len(parameters)
+                    name = f"{layer.material} thickness ({where})"
+                    parameters.append(Parameter(name, "nm", "thickness", layer.thickness_nm, index))
+                seen[key] = (thickness_slot, tuple(material_slots))
+            per_layer.append(seen[key])
+        return tuple(parameters), tuple(per_layer)
+
+    @property
+    def parameters(self) -> tuple:
+        """Every unknown in reading order (material coefficients, then the item's thickness)."""
+        return self._slots[0]
+
+    @property
+    def thickness_parameters(self) -> tuple:
+        """Indices into :attr:`parameters` of the unknown thicknesses."""
+        return tuple(i for i, p in enumerate(self.parameters) if p.kind == "thickness")
+
+    def thickness_columns(self) -> tuple:
+        """For each layer (substrate last): which free thickness supplies it, or None.
+
+        The number is a position in :attr:`thickness_parameters` order, i.e. a column of the
+        ``thickness_nm`` array that :func:`filmoptic.engine.compute` accepts.
+        """
+        order = {slot: column for column, slot in enumerate(self.thickness_parameters)}
+        return tuple(None if t is None else order[t] for t, _ in self._slots[1])
+
+    def bind(self, values) -> "Stack":
+        """The same stack with every unknown replaced by ``values`` (in :attr:`parameters` order).
+
+        Examples
+        --------
+        >>> parse_stack("cauchy(?,0,0) 10..90nm / n=1.52").bind([1.9, 42.0]).layers[0].thickness_nm
+        42.0
+        """
+        values = [float(v) for v in (values if values is not None else [])]
+        parameters, per_layer = self._slots
+        if len(values) != len(parameters):
+            raise FilmopticError(
+                f"the stack has {len(parameters)} unknown(s), got {len(values)} value(s)"
+            )
+        for p, v in zip(parameters, values):
+            if not math.isfinite(v):
+                raise FilmopticError(f"{p.name}: {v} is not a finite number")
+            if p.kind == "thickness" and v < 0:
+                raise FilmopticError(f"{p.name} must not be negative, got {v:g} nm")
+        bound_materials = {}
+        new_items = []
+        for layer, (t_slot, m_slots) in zip((*self.layers, self.substrate), per_layer):
+            material = layer.material
+            if m_slots:
+                key = (id(material), m_slots)
+                if key not in bound_materials:
+                    bound_materials[key] = material.bind([values[i] for i in m_slots])
+                material = bound_materials[key]
+            thickness = layer.thickness_nm if t_slot is None else values[t_slot]
+            new_items.append(replace(layer, material=material, thickness_nm=thickness))
+        return replace(self, layers=tuple(new_items[:-1]), substrate=new_items[-1])
+
+    # -- variants -----------------------------------------------------------------------------
+    def bare(self) -> "Stack":
+        """The substrate alone (no coating), in the same ambient and exit medium."""
+        return replace(self, layers=(), text=self.substrate.text)
+
+    def reversed(self) -> "Stack":
+        """The same stack with the light coming from the substrate side.
+
+        A thick substrate slab becomes the first item (light arrives from the exit medium); a
+        half-space substrate becomes the incident medium. The former ambient is the new
+        substrate, a half-space.
+        """
+        back = tuple(reversed(self.layers))
+        name = getattr(self.ambient, "name", str(self.ambient))
+        new_substrate = Layer(self.ambient, None, False, name)
+        if self.substrate.thickness_nm is None:
+            ambient = self.substrate.material
+            layers = back
+        else:
+            ambient = self.exit_medium
+            layers = (self.substrate, *back)
+        text = " / ".join([*(layer.label for layer in layers), name])
+        return Stack(layers, new_substrate, ambient, self.ambient, text)
+
+
+# ----------------------------------------------------------------------------------------------
+# Parsing
+# ----------------------------------------------------------------------------------------------
+def parse_stack(text: str, ambient="air") -> Stack:
+    """Read a stack written in filmoptic's notation.
+
+    Parameters
+    ----------
+    text : str
+        E.g. ``"TiO2 60nm / SiO2 95nm / glass 3mm"`` or ``"[H 55nm / L 92nm]x4 / glass"``.
+    ambient : str or Material, optional
+        The medium the light comes from (and that lies behind a thick substrate).
+
+    Returns
+    -------
+    Stack
+
+    Raises
+    ------
+    StackSyntaxError, UnknownMaterialError, DataFileError
+        One line naming the offending item and what was expected.
+
+    Examples
+    --------
+    >>> s = parse_stack("[n=2.3 55nm / n=1.46 92nm]x2 / n=1.52 1mm")
+    >>> len(s.layers), s.substrate.thick, s.substrate.thickness_nm
+    (4, True, 1000000.0)
+    """
+    from filmoptic.materials import parse_material
+
+    if not isinstance(text, str):
+        raise StackSyntaxError(f"a stack must be written as text, got {type(text).__name__}")
+    if not text.strip():
+        raise StackSyntaxError(
+            "empty stack: write the layers and the substrate, e.g. 'TiO2 60nm / glass 3mm'"
+        )
+    ambient_material = _read_ambient(ambient, parse_material)
+    parser = _Parser(parse_material)
+    items = _split_items(text, "")
+    if items[-1][1].lstrip().startswith("["):
+        raise StackSyntaxError(
+            f"item {len(items)} {items[-1][1].strip()!r}: the last item must be the substrate, "
+            "not a repeat group; add it after a ' / ', e.g. '… / glass 1mm'"
+        )
+    layers = []
+    for label, item in items[:-1]:
+        layers.extend(parser.item(label, item))
+        if len(layers) > MAX_LAYERS:
+            raise StackSyntaxError(f"the stack expands to more than {MAX_LAYERS} layers")
+    substrate = parser.substrate(*items[-1])
+    return Stack(tuple(layers), substrate, ambient_material, ambient_material, " ".join(text.split()))
+
+
+def _read_ambient(ambient, parse_material):
+    if isinstance(ambient, str):
+        try:
+            material = parse_material(ambient)
+        except FilmopticError as exc:
+            raise type(exc)(f"ambient {ambient!r}: {exc}") from None
+    else:
+        material = ambient
+    if material.free_parameters():
+        raise StackSyntaxError(f"the ambient {material} cannot contain unknowns ('?' or ranges)")
+    return material
+
+
+def _split_items(text: str, prefix: str):
+    """Split at top-level '/' (not inside (), [] or a file path); returns [(label, item), …]."""
+    pieces, depth, start, i = [], 0, 0, 0
+    while i < len(text):
+        if text[i:i + 5].lower() == "file:":
+            # A path runs to the next white space (or ',' / ')' inside a mix) and may hold '/'.
+            i += 5
+            while i < len(text) and not text[i].isspace() and not (depth and text[i] in ",)"):
+                i += 1
+            continue
+        ch = text[i]
+        if ch in "([":
+            depth += 1
+        elif ch in ")]":
+            depth -= 1
+            if depth < 0:
+                raise StackSyntaxError(f"unbalanced {ch!r} in {text.strip()!r}")
+        elif ch == "/" and depth == 0:
+            pieces.append(text[start:i])
+            start = i + 1
+        i += 1
+    if depth:
+        raise StackSyntaxError(f"missing ')' or ']' in {text.strip()!r}")
+    pieces.append(text[start:])
+    items = []
+    for k, piece in enumerate(pieces, start=1):
+        label = f"{prefix}{k}"
+        if not piece.strip():
+            raise StackSyntaxError(
+                f"item {label} is empty: two '/' in a row, or a '/' at the start or end"
+                + (f" of the group" if prefix else "")
+            )
+        items.append((label, piece))
+    return items
+
+
+def _group_parts(item: str, label: str):
+    """``[inner]xN`` → (inner, N)."""
+    depth = 0
+    for i, ch in enumerate(item):
+        if ch in "([":
+            depth += 1
+        elif ch in ")]":
+            depth -= 1
+            if depth == 0:
+                close = i
+                break
+    else:  # pragma: no cover - _split_items already checked the brackets
+        raise StackSyntaxError(f"item {label} {item!r}: missing ']'")
+    inner, rest = item[1:close], item[close + 1:]
+    m = _REPEAT_RE.match(rest)
+    if not m:
+        raise StackSyntaxError(
+            f"item {label} {item!r}: a group is written [LAYERS]xN, e.g. '[TiO2 55nm / SiO2 92nm]x4'"
+        )
+    count_text = m.group(1)
+    if not count_text:
+        raise StackSyntaxError(f"item {label} {item!r}: the group needs a repeat count, e.g. ']x4'")
+    if not re.fullmatch(r"\d+", count_text):
+        raise StackSyntaxError(
+            f"item {label} {item!r}: the repeat count must be a whole number, got {count_text!r}"
+        )
+    count = int(count_text)
+    if count < 1:
+        raise StackSyntaxError(f"item {label} {item!r}: a group must repeat at least once (x1 or more)")
+    if count > MAX_REPEAT:
+        raise StackSyntaxError(
+            f"item {label} {item!r}: {count} repeats is absurd (at most {MAX_REPEAT})"
+        )
+    if not inner.strip():
+        raise StackSyntaxError(f"item {label} {item!r}: the group is empty")
+    return inner, count
+
+
+class _Parser:
+    def __init__(self, parse_material):
+        self._parse_material = parse_material
+        self._next_item = 0
+
+    def item(self, label: str, raw: str) -> list:
+        """The layers of one item before the substrate (a group expands to its repeats)."""
+        text = raw.strip()
+        if text.startswith("["):
+            inner, count = _group_parts(text, label)
+            once = []
+            for sub_label, sub in _split_items(inner, f"{label}."):
+                once.extend(self.item(sub_label, sub))
+            if len(once) * count > MAX_LAYERS:
+                raise StackSyntaxError(
+                    f"item {label} {text!r}: expands to {len(once) * count} layers (at most {MAX_LAYERS})"
+                )
+            return once * count
+        material, thickness, thick = self._material_and_thickness(label, text)
+        if thickness is None:
+            raise StackSyntaxError(
+                f"item {label} {text!r}: a layer needs a thickness with a unit, e.g. "
+                f"'{text} 50nm' (only the last item, the substrate, may have none)"
+            )
+        if thick and not is_free(thickness) and thickness == 0:
+            raise StackSyntaxError(f"item {label} {text!r}: a thick slab needs a positive thickness")
+        return [Layer(material, thickness, thick, text, self._new_item())]
+
+    def substrate(self, label: str, raw: str) -> Layer:
+        text = raw.strip()
+        material, thickness, thick = self._material_and_thickness(label, text)
+        if thickness is None:
+            return Layer(material, None, False, text, self._new_item())
+        if is_free(thickness):
+            raise StackSyntaxError(
+                f"item {label} {text!r}: the substrate (last item) cannot have an unknown "
+                "thickness; give it none (a half-space) or a thickness in mm"
+            )
+        if not thick:
+            raise StackSyntaxError(
+                f"item {label} {text!r}: the last item is the substrate; give it no thickness "
+                "(a half-space, e.g. 'glass') or one in mm (a thick slab, e.g. 'glass 3mm'), "
+                "or add the substrate after a ' / '"
+            )
+        if thickness == 0:
+            raise StackSyntaxError(f"item {label} {text!r}: a thick substrate needs a positive thickness")
+        return Layer(material, thickness, True, text, self._new_item())
+
+    def _new_item(self) -> int:
+        self._next_item += 1
+        return self._next_item - 1
+
+    def _material(self, label: str, item: str, text: str):
+        if not text:
+            raise StackSyntaxError(f"item {label} {item!r}: no material before the thickness")
+        try:
+            return self._parse_material(text)
+        except FilmopticError as exc:
+            raise type(exc)(f"item {label} {item!r}: {exc}") from None
+
+    def _material_and_thickness(self, label: str, item: str):
+        """(material, thickness_nm or Free or None, thick)."""
+        m = _THICKNESS_RE.search(item)
+        if m is None:
+            if len(_top_level_words(item)) > 1:
+                raise StackSyntaxError(
+                    f"item {label} {item!r}: cannot read {_top_level_words(item)[-1]!r} as a "
+                    "thickness; write e.g. '55nm', '1.2um', '3mm', '?' or '10..90nm'"
+                )
+            return self._material(label, item, item), None, False
+        thickness_text = m.group("thickness").strip()
+        material_text = item[: m.start()].strip()
+        if re.fullmatch(_NUM, thickness_text):
+            # A bare number: either the end of a material written with spaces ("n = 1.46") or a
+            # thickness that forgot its unit.
+            try:
+                return self._parse_material(item), None, False
+            except FilmopticError:
+                pass
+            if not material_text:
+                raise StackSyntaxError(f"item {label} {item!r}: expected MATERIAL THICKNESS, e.g. 'TiO2 55nm'")
+            raise StackSyntaxError(
+                f"item {label} {item!r}: thickness has no unit; write '{thickness_text}nm' "
+                f"(or um, or mm for a thick slab)"
+            )
+        thickness, thick = _read_thickness(label, item, thickness_text)
+        return self._material(label, item, material_text), thickness, thick
+
+
+def _top_level_words(item: str) -> list:
+    words, depth, current = [], 0, []
+    for ch in item:
+        if ch in "([":
+            depth += 1
+        elif ch in ")]":
+            depth -= 1
+        if ch.isspace() and depth == 0:
+            if current:
+                words.append("".join(current))
+                current = []
+        else:
+            current.append(ch)
+    if current:
+        words.append("".join(current))
+    return words
+
+
+def _read_thickness(label: str, item: str, text: str):
+    """'55nm' → (55.0, False); '3mm' → (3e6, True); '?' → (Free(), False); '10..40nm' → Free."""
+    unit_match = re.search(rf"({_UNIT})$", text)
+    unit = unit_match.group(1) if unit_match else None
+    body = text[: unit_match.start()].strip() if unit_match else text.strip()
+    thick = unit == "mm"
+    scale = LENGTH_UNITS_NM[unit] if unit else 1.0
+    where = f"item {label} {item!r}"
+    if body == "?":
+        return Free(), thick
+    if ".." in body:
+        if unit is None:
+            low_text = body.split("..")[0].strip()
+            raise StackSyntaxError(
+                f"{where}: the range has no unit; write e.g. '{body.replace(' ', '')}nm'"
+                if low_text else f"{where}: cannot read the range {body!r}"
+            )
+        low, high = (float(x) for x in body.split(".."))
+        low, high = low * scale, high * scale
+        if not (math.isfinite(low) and math.isfinite(high)) or low < 0:
+            raise StackSyntaxError(f"{where}: a thickness range needs 0 <= LOW < HIGH")
+        if not low < high:
+            raise StackSyntaxError(f"{where}: a thickness range LOW..HIGH needs LOW < HIGH")
+        if high > 1e9:
+            raise StackSyntaxError(f"{where}: the range {text!r} is absurdly large (over 1 m)")
+        return Free(low, high), thick
+    value = float(body) * scale
+    if not math.isfinite(value):
+        raise StackSyntaxError(f"{where}: the thickness {text!r} is not a finite number")
+    if value < 0:
+        raise StackSyntaxError(f"{where}: the thickness must not be negative, got {text!r}")
+    if value > 1e9:
+        raise StackSyntaxError(f"{where}: the thickness {text!r} is absurdly large (over 1 m)")
+    return value, thick
