@@ -14,7 +14,7 @@ __all__ = ["__version__"]
 __version__ = "0.1.0"
 
 _SUBMODULES = {
-    "errors", "units", "materials", "stack", "engine", "colorimetry", "solve", "rate",
+    "errors", "units", "files", "materials", "stack", "engine", "colorimetry", "solve", "rate",
     "fit", "measured", "envelope", "choose", "plots", "demo",
 }
 

@@ -7,15 +7,14 @@ from __future__ import annotations
 
 import json
 import math
-import os
 import sys
-import tempfile
 from contextlib import contextmanager
 from pathlib import Path
 
 import click
 
 from filmoptic.errors import FilmopticError
+from filmoptic.files import write_atomically  # noqa: F401  (re-exported for the commands)
 
 __all__ = [
     "user_errors",
@@ -153,29 +152,6 @@ def print_table(headers, rows, title: str | None = None) -> None:
     click.echo("  ".join("-" * w for w in widths))
     for row in rows:
         click.echo(fmt(row))
-
-
-def write_atomically(path, write, mode: str = "w") -> Path:
-    """Write a whole file through ``write(fileobj)``: to a temporary file first, then rename.
-
-    An interrupted run never leaves a half-written file in the user's place.
-    """
-    path = Path(path)
-    directory = path.parent if str(path.parent) else Path(".")
-    if not directory.is_dir():
-        raise FilmopticError(f"cannot write {path}: folder {directory} does not exist")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=directory)
-    try:
-        with os.fdopen(fd, mode, **({} if "b" in mode else {"encoding": "utf-8", "newline": ""})) as fh:
-            write(fh)
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except FileNotFoundError:
-            pass
-        raise
-    return path
 
 
 PLOT_SUFFIXES = {".png", ".svg", ".pdf"}

@@ -7,21 +7,11 @@ CSV tables into the output folder.
 
 from __future__ import annotations
 
-import csv
 import pathlib
 
+from filmoptic.files import write_csv
+
 __all__ = ["run"]
-
-
-def _write_csv(path: pathlib.Path, header, rows) -> None:
-    from filmoptic.cli._common import write_atomically
-
-    def write(fh):
-        writer = csv.writer(fh, lineterminator="\n")
-        writer.writerow(header)
-        writer.writerows(rows)
-
-    write_atomically(path, write)
 
 
 def _grid(range_nm):
@@ -46,7 +36,7 @@ def _colour_chart(stack: str, range_nm, name: str, outdir: pathlib.Path, say) ->
         for d, r, lr in ((sweep.thickness_nm[i], sweep.reflected[i], sweep.luminous_R[i])
                          for i in range(sweep.thickness_nm.size))
     ]
-    _write_csv(outdir / f"{name}.csv",
+    write_csv(outdir / f"{name}.csv",
                ["thickness_nm", "reflected_hex", "L", "a", "b", "in_srgb_gamut", "luminous_R"], rows)
     say(f"Colour of {stack} from {range_nm[0]:g} to {range_nm[1]:g} nm (D65, 2°, seen square-on):")
     for t in thickness_ticks(range_nm[0], range_nm[1], target=8):
@@ -102,7 +92,7 @@ def run(outdir: pathlib.Path, say) -> None:
         L, a, b = c.Lab
         say(f"  {label:24s} {c.hex}  L* {L:5.1f}  a* {a:+5.1f}  b* {b:+5.1f}  luminous {100 * lum:5.1f} %")
         rows.append([label, c.hex, f"{L:.2f}", f"{a:.2f}", f"{b:.2f}", f"{lum:.4f}"])
-    _write_csv(outdir / "colour_semi_mirror.csv", ["view", "hex", "L", "a", "b", "luminous"], rows)
+    write_csv(outdir / "colour_semi_mirror.csv", ["view", "hex", "L", "a", "b", "luminous"], rows)
     fig = swatch_figure(front, stack_text=mirror_text, by_angle=by_angle, angles_deg=list(sc.VIEWING_ANGLES_DEG))
     save_figure(fig, outdir / "colour_semi_mirror_swatch.png")
     say("  → colour_semi_mirror_swatch.png (about 15 cm wide), colour_semi_mirror.csv")

@@ -17,7 +17,7 @@ PLOT_FILE = "fit_plot.png"
 
 
 def _write_spectrum(path: pathlib.Path, wavelength_nm, values, header_lines) -> None:
-    from filmoptic.cli._common import write_atomically
+    from filmoptic.files import write_atomically
 
     def write(fh):
         for line in header_lines:
@@ -33,7 +33,7 @@ def run(outdir: pathlib.Path, say) -> None:
     """Make the synthetic curve, fit it, and write data, report and plot into ``outdir``."""
     import numpy as np
 
-    from filmoptic.cli._common import write_atomically
+    from filmoptic.files import write_atomically
     from filmoptic.demo import scenario as sc
     from filmoptic.engine import compute
     from filmoptic.fit import fit_spectra, format_report

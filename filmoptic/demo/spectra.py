@@ -22,7 +22,7 @@ def run(outdir: pathlib.Path, say) -> None:
     """Compute the two spectra, write ``spectra.csv`` and ``spectra.png``, and say what was done."""
     import numpy as np
 
-    from filmoptic.cli._common import write_atomically
+    from filmoptic.files import write_atomically
     from filmoptic.demo.scenario import (
         MIRROR_EXAMPLE_STACK,
         OXIDE_EXAMPLE_STACK,

@@ -5,21 +5,11 @@ All inputs come from the fictional scenario in :mod:`filmoptic.demo.scenario`.
 
 from __future__ import annotations
 
-import csv
 import pathlib
 
+from filmoptic.files import write_csv
+
 __all__ = ["run"]
-
-
-def _write_csv(path: pathlib.Path, header, rows) -> None:
-    from filmoptic.cli._common import write_atomically
-
-    def write(fh):
-        writer = csv.writer(fh, lineterminator="\n")
-        writer.writerow(header)
-        writer.writerows(rows)
-
-    write_atomically(path, write)
 
 
 def _pct(value) -> str:
@@ -52,7 +42,7 @@ def run(outdir: pathlib.Path, say) -> None:
         rows.append([c.material, f"{c.thickness_nm:.3f}", f"{c.luminous_T:.4f}", f"{c.luminous_R:.4f}",
                      f"{c.luminous_R_reverse:.4f}", f"{c.absorptance:.4f}", f"{c.reflected_chroma:.2f}",
                      f"{c.transmitted_chroma:.2f}", f"{c.change_per_nm:.5f}"])
-    _write_csv(outdir / "thickness_compare.csv",
+    write_csv(outdir / "thickness_compare.csv",
                ["material", "thickness_nm", "luminous_T", "luminous_R", "luminous_R_glass_side",
                 "absorptance", "chroma_reflected", "chroma_transmitted", "luminous_T_change_per_nm"], rows)
     say("  → thickness_compare.csv")
@@ -72,7 +62,7 @@ def run(outdir: pathlib.Path, say) -> None:
     say(f"  {sc.LUX_STACK.replace('?', f'{measured.thickness_nm:.2f} nm')}: film between "
         f"{measured.low_nm:.2f} and {measured.high_nm:.2f} nm "
         f"(the ratio falls {abs(100 * measured.slope_per_nm):.2f} percentage points per nm)")
-    _write_csv(outdir / "thickness_reading.csv",
+    write_csv(outdir / "thickness_reading.csv",
                ["reading", "thickness_nm", "low_nm", "high_nm", "slope_per_nm"],
                [[f"{ratio:.5f}", f"{measured.thickness_nm:.3f}", f"{measured.low_nm:.3f}",
                  f"{measured.high_nm:.3f}", f"{measured.slope_per_nm:.5f}"]])
@@ -106,7 +96,7 @@ def run(outdir: pathlib.Path, say) -> None:
     minutes, seconds = divmod(fit.time_s, 60)
     say(f"  next run for {design.thickness_nm:.2f} nm of {sc.NEXT_RUN_MATERIAL}: "
         f"{fit.time_s:.0f} s ({int(minutes)} min {seconds:.0f} s)")
-    _write_csv(outdir / "thickness_next_run.csv",
+    write_csv(outdir / "thickness_next_run.csv",
                ["rate_nm_per_s", "offset_nm", "target_nm", "time_s"],
                [[f"{fit.rate_nm_per_s:.6f}", f"{fit.offset_nm:.4f}", f"{design.thickness_nm:.3f}",
                  f"{fit.time_s:.1f}"]])

@@ -8,7 +8,6 @@ package only where a plot is asked for.
 from __future__ import annotations
 
 import os
-import tempfile
 from pathlib import Path
 
 __all__ = ["new_figure", "save_figure"]
@@ -30,10 +29,11 @@ def new_figure(*args, **kwargs):
 
 def save_figure(fig, path, dpi: int = 200) -> Path:
     """Save ``fig`` to ``path`` (format from its extension) via a temporary file, then close it."""
+    from filmoptic.files import temporary_sibling
+
     path = Path(path)
     fmt = path.suffix.lower().lstrip(".") or "png"
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=f".{fmt}", dir=path.parent if str(path.parent) else ".")
-    os.close(fd)
+    tmp = temporary_sibling(path, suffix=f".{fmt}")
     try:
         fig.savefig(tmp, format=fmt, dpi=dpi, bbox_inches="tight")
         os.replace(tmp, path)
