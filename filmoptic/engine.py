@@ -167,7 +167,7 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
         table = table[::-1]
         incoherent = incoherent[::-1]
         media = media[::-1]
-    _check_incidence(media[0], indices[0], angles)
+    indices[0] = _incident_index(media[0], indices[0], angles)
 
     out_shape = batch_shape + angles.shape + wl.shape
     batch = math.prod(batch_shape)
@@ -282,6 +282,26 @@ def _check_angles(angle_deg) -> np.ndarray:
     if not np.all(np.isfinite(angles)) or np.any(angles < 0) or np.any(angles >= 90):
         raise FilmopticError("angle of incidence must lie in [0, 90) degrees")
     return angles
+
+
+# An incident medium whose k is below this fraction of n (water: k ≈ 1e-9 in the visible) is
+# transparent over any path that matters here; its absorption is dropped so that an angle of
+# incidence is defined.
+_TRANSPARENT_INCIDENT_K = 1e-6
+
+
+def _incident_index(material, N0, angles) -> np.ndarray:
+    """The incident medium's index, checked for a meaningful angle of incidence.
+
+    n0·sin θ0 must be real (tmm requires the same). A practically transparent medium such as
+    water (k/n < 1e-6) has its tiny k dropped; a truly absorbing one is an error at an angle.
+    """
+    if not np.any(angles > 0) or not np.any(N0.imag > 0):
+        return N0
+    if np.all(N0.imag <= _TRANSPARENT_INCIDENT_K * N0.real):
+        return N0.real.astype(complex)
+    _check_incidence(material, N0, angles)
+    return N0
 
 
 def _check_incidence(material, N0, angles) -> None:

@@ -129,7 +129,9 @@ class Stack:
                 thickness_slot = None
                 if is_free(layer.thickness_nm):
                     thickness_slot = len(parameters)
-                    name = f"{layer.material} thickness ({where})"
+                    # A material with its own unknowns reads badly as a label ("cauchy(?,?,0)").
+                    label = "" if material_slots else f"{layer.material} "
+                    name = f"{label}thickness ({where})"
                     parameters.append(Parameter(name, "nm", "thickness", layer.thickness_nm, index))
                 seen[key] = (thickness_slot, tuple(material_slots))
             per_layer.append(seen[key])

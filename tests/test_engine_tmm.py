@@ -227,3 +227,19 @@ def test_very_thick_coherent_layers_agree_with_tmm(thickness_um):
             R_ref, T_ref = _reference(stack, w, angle, pol, False, False)
             assert abs(result.R[i] - R_ref) <= TOLERANCE
             assert abs(result.T[i] - T_ref) <= TOLERANCE
+
+
+def test_water_ambient_at_an_angle_uses_its_real_index():
+    # Water's k is ~1e-9 in the visible (the shipped table): it is transparent over any path that
+    # matters, so an angle of incidence is allowed and equals tmm with the real index (tmm itself
+    # needs a real n0·sin θ0; Byrnes 2016).
+    stack = parse_stack("TiO2 60nm / n=1.52", ambient="water")
+    wl = np.array([500.0, 600.0])
+    assert np.all(stack.ambient.nk(wl).imag > 0)  # the table does carry a small k
+    result = compute(stack, wl, angle_deg=40.0, polarization="s")
+    for i, w in enumerate(wl):
+        n, d, _ = _tmm_lists(stack, w)
+        n[0] = n[0].real
+        out = tmm.coh_tmm("s", n, d, math.radians(40.0), w)
+        assert abs(result.R[i] - out["R"]) <= TOLERANCE
+        assert abs(result.T[i] - out["T"]) <= TOLERANCE
