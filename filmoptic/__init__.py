@@ -15,7 +15,7 @@ __version__ = "0.1.0"
 
 _SUBMODULES = {
     "errors", "units", "files", "materials", "stack", "engine", "colorimetry", "solve", "rate",
-    "fit", "measured", "envelope", "choose", "plots", "demo",
+    "fit", "measured", "envelope", "choose", "roots", "readings", "plots", "demo",
 }
 
 

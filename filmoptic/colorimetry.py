@@ -79,10 +79,12 @@ __all__ = [
     "default_wavelengths",
     "read_spectrum_file",
     "illuminant_spd",
+    "illuminant_table",
     "illuminant_label",
     "check_illuminant",
     "check_observer",
     "photopic_efficiency",
+    "interval_widths",
     "tristimulus_weights",
     "luminous_weights",
     "white_point",
@@ -393,7 +395,39 @@ def _cie_table(key: str) -> tuple[np.ndarray, np.ndarray]:
     return np.asarray(sd.wavelengths, dtype=float), np.asarray(sd.values, dtype=float)
 
 
-def _resolve_illuminant(illuminant) -> TabulatedSpectrum:
+def illuminant_table(illuminant) -> TabulatedSpectrum:
+    """An illuminant's own table: a CIE illuminant by name, a user's file, or a table as given.
+
+    The table keeps the illuminant's tabulated wavelengths and range, so a caller can see what it
+    covers (``.range_nm``) before sampling it (``.at(wavelength_nm)``, linear interpolation, an
+    error outside the range). Files are read once and cached until they change.
+
+    Parameters
+    ----------
+    illuminant : str, os.PathLike or TabulatedSpectrum
+        A name as for :func:`illuminant_spd` (any case), the path of a two-column file (see
+        :func:`read_spectrum_file`), or a :class:`TabulatedSpectrum`, returned unchanged.
+
+    Returns
+    -------
+    TabulatedSpectrum
+
+    Raises
+    ------
+    FilmopticError
+        Unknown name (with close matches), or an unusable file
+        (:class:`~filmoptic.errors.DataFileError`).
+
+    References
+    ----------
+    CIE 15:2018, *Colorimetry*, 4th ed., Tables 5–10 (illuminant data, through colour-science).
+
+    Examples
+    --------
+    >>> table = illuminant_table("a")
+    >>> table.source, table.range_nm
+    ('CIE illuminant A', (300.0, 780.0))
+    """
     if isinstance(illuminant, TabulatedSpectrum):
         return illuminant
     kind, key = _illuminant_key(illuminant)
@@ -440,7 +474,7 @@ def illuminant_spd(name, wavelength_nm) -> np.ndarray:
     >>> float(illuminant_spd("A", [560.0])[0])
     100.0
     """
-    return _resolve_illuminant(name).at(wavelength_nm)
+    return illuminant_table(name).at(wavelength_nm)
 
 
 @lru_cache(maxsize=4)
@@ -501,11 +535,35 @@ def _as_grid(wavelength_nm) -> np.ndarray:
     return wl
 
 
-def _interval_widths(wl: np.ndarray) -> np.ndarray:
+def interval_widths(wavelength_nm) -> np.ndarray:
     """Δλ of each grid point: half the distance to each neighbour (the full step at the ends).
 
-    On a uniform grid every Δλ equals the step, which is CIE 15:2018's plain summation.
+    Weighting a sum over a grid by these widths makes it the midpoint-rule integral, on uniform and
+    uneven grids alike; on a uniform grid every Δλ equals the step, which is CIE 15:2018's plain
+    summation.
+
+    Parameters
+    ----------
+    wavelength_nm : array_like, shape (W,)
+        Strictly increasing wavelengths, at least two.
+
+    Returns
+    -------
+    numpy.ndarray, shape (W,)
+        The widths; they add up to the grid's span plus half its first and half its last step.
+
+    References
+    ----------
+    CIE 15:2018, *Colorimetry*, 4th ed., §7.1 (summation in place of integration).
+
+    Examples
+    --------
+    >>> interval_widths([400.0, 405.0, 410.0]).tolist()
+    [5.0, 5.0, 5.0]
+    >>> interval_widths([400.0, 402.0, 410.0]).tolist()
+    [2.0, 5.0, 8.0]
     """
+    wl = np.asarray(wavelength_nm, dtype=float)
     edges = np.concatenate(([wl[0] - (wl[1] - wl[0]) / 2], (wl[1:] + wl[:-1]) / 2, [wl[-1] + (wl[-1] - wl[-2]) / 2]))
     return np.diff(edges)
 
@@ -541,7 +599,7 @@ def _illuminant_on_visible(illuminant, wl: np.ndarray) -> np.ndarray:
     """SPD on the grid, zero outside 380–780 nm (which takes no part in the sums)."""
     mask = _visible_mask(wl)
     spd = np.zeros_like(wl)
-    spd[mask] = _resolve_illuminant(illuminant).at(wl[mask])
+    spd[mask] = illuminant_table(illuminant).at(wl[mask])
     return spd
 
 
@@ -568,7 +626,7 @@ def tristimulus_weights(wavelength_nm, illuminant="D65", observer=2) -> np.ndarr
 
     def build():
         spd = _illuminant_on_visible(illuminant, wl)
-        weights = spd[:, None] * _cmfs(obs, wl) * _interval_widths(wl)[:, None]
+        weights = spd[:, None] * _cmfs(obs, wl) * interval_widths(wl)[:, None]
         norm = weights[:, 1].sum()
         if not norm > 0:
             raise FilmopticError(f"illuminant {illuminant_label(illuminant)} has no power in 380–780 nm")
@@ -591,7 +649,7 @@ def luminous_weights(wavelength_nm, illuminant="D65") -> np.ndarray:
     key = ("lum", _illuminant_cache_key(illuminant), wl.tobytes())
 
     def build():
-        weights = _illuminant_on_visible(illuminant, wl) * photopic_efficiency(wl) * _interval_widths(wl)
+        weights = _illuminant_on_visible(illuminant, wl) * photopic_efficiency(wl) * interval_widths(wl)
         total = weights.sum()
         if not total > 0:
             raise FilmopticError(f"illuminant {illuminant_label(illuminant)} has no visible power in 380–780 nm")

@@ -12,24 +12,49 @@ the next run follows as ``(target - offset) / rate``.
 A thickness read from a quartz-crystal monitor is the monitor's *indicated* thickness; the
 *tooling factor* (measured ÷ indicated thickness, found once by measuring a film) converts it, and
 the monitor end point for a target is ``target / tooling``.
+
+Uncertainties
+-------------
+Each calibration thickness is known only to some error: a profilometer step, a solved reading, a
+monitor's resolution. When every run carries a standard uncertainty σᵢ (written
+``21.8nm+-0.4nm``, or taken from a ``filmoptic solve --json`` interval), the line is fitted by
+weighted least squares (weights 1/σᵢ²) and the σᵢ are propagated: the covariance of (rate, offset)
+is (AᵀWA)⁻¹, and the time for a target, ``t = (D − offset)/rate``, gets
+
+    σ_t² = (t/rate)² σ_rate² + (1/rate)² σ_offset² + 2 (t/rate²) cov(rate, offset)
+
+— the covariance term matters: rate and offset fitted to runs at positive times are negatively
+correlated, and leaving it out overstates σ_t. Two runs with uncertainties fix the line exactly
+but still carry their uncertainties into it. With three or more runs, χ² of the fit says whether
+the scatter agrees with the stated uncertainties. Without uncertainties the usual residual-based
+standard errors are given (three runs or more; none for two).
+
+References
+----------
+P. R. Bevington & D. K. Robinson, *Data Reduction and Error Analysis for the Physical Sciences*,
+3rd ed., McGraw-Hill (2003), ch. 3 (propagation of errors with covariance, eq. 3.13), ch. 6 (the
+weighted straight-line fit and its variances) and ch. 7 (the covariance of fitted coefficients),
+from memory; N. R. Draper & H. Smith, *Applied Regression Analysis*, 3rd ed., Wiley (1998), ch. 1.
 """
 
 from __future__ import annotations
 
 import json
 import math
+import re
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
 from .errors import DataFileError, FilmopticError
-from .units import parse_duration_s, parse_length_nm
+from .units import parse_duration_s, parse_length_nm, parse_number
 
 __all__ = [
     "Run",
     "RateFit",
     "parse_run",
+    "parse_thickness",
     "thickness_from_solve_file",
     "fit_rate",
 ]
@@ -46,7 +71,8 @@ class Run:
     thickness_nm : float
         Film thickness in nm (after the tooling factor, for monitor readings).
     sigma_nm : float or None
-        Standard uncertainty of the thickness, when known (from a ``solve`` interval).
+        Standard uncertainty (one standard deviation) of the thickness, when known: written with
+        the run (``21.8nm+-0.4nm``) or half a ``solve`` interval.
     source : str
         Where the thickness came from, as the user wrote it.
     """
@@ -68,16 +94,23 @@ class RateFit:
         Deposition rate and its uncertainty.
     offset_nm, offset_sigma_nm : float, float or None
         Start-up offset (0 with no uncertainty when fitted through the origin).
-    dead_time_s : float
-        ``-offset / rate``: the time at the start of a run that deposits nothing.
+    dead_time_s, dead_time_sigma_s : float, float or None
+        ``-offset / rate``: the time at the start of a run that deposits nothing, and its
+        uncertainty (None through the origin).
     covariance : tuple
         2 × 2 covariance of (rate, offset) as nested tuples, or ``None``.
     through_origin : bool
         True when only the rate was fitted (a single run).
     weighted : bool
-        True when every run carried an uncertainty and the fit was weighted by 1/σ².
+        True when every run carried an uncertainty and the fit was weighted by 1/σ²; the
+        uncertainties are then those of the runs, propagated.
     residual_rms_nm : float
         Root-mean-square misfit of the runs.
+    chi2, degrees_of_freedom, chi2_probability : float, int, float or None
+        For a weighted fit: χ² = Σ((dᵢ − fitᵢ)/σᵢ)², the number of runs less the fitted
+        parameters, and the probability of a χ² at least this large if the stated σᵢ are right
+        (None without degrees of freedom). A small probability means the runs scatter more than
+        their uncertainties allow.
     target_nm, time_s, time_sigma_s : float or None
         The requested thickness, the run time it needs, and that time's uncertainty.
     tooling_factor, monitor_endpoint_nm : float or None
@@ -91,10 +124,14 @@ class RateFit:
     offset_nm: float
     offset_sigma_nm: float | None
     dead_time_s: float
+    dead_time_sigma_s: float | None
     covariance: tuple | None
     through_origin: bool
     weighted: bool
     residual_rms_nm: float
+    chi2: float | None
+    degrees_of_freedom: int
+    chi2_probability: float | None
     target_nm: float | None
     time_s: float | None
     time_sigma_s: float | None
@@ -131,12 +168,51 @@ def thickness_from_solve_file(path) -> tuple[float, float | None]:
     return thickness, sigma
 
 
+_PLUS_MINUS = re.compile(r"\s*(?:±|\+/?-)\s*")
+
+
+def parse_thickness(text: str, what: str = "thickness") -> tuple[float, float | None]:
+    """A thickness with an optional standard uncertainty: ``21.8nm``, ``21.8nm+-0.4nm``,
+    ``21.8nm±0.4nm`` or ``21.8nm+-2%`` (percent of the thickness). Returns ``(nm, sigma_nm or None)``.
+
+    The uncertainty is one standard deviation and must be positive (a zero one would give the run
+    infinite weight).
+
+    Examples
+    --------
+    >>> parse_thickness("21.8nm+-0.4nm")
+    (21.8, 0.4)
+    >>> parse_thickness("0.2um ± 5%")
+    (200.0, 10.0)
+    >>> parse_thickness("12nm")
+    (12.0, None)
+    """
+    parts = _PLUS_MINUS.split(str(text).strip())
+    if len(parts) > 2:
+        raise FilmopticError(f"{what}: write one uncertainty, like 21.8nm+-0.4nm, got {text!r}")
+    thickness = parse_length_nm(parts[0], what=what)
+    if len(parts) == 1:
+        return thickness, None
+    u_text = parts[1].strip()
+    if u_text.endswith("%"):
+        sigma = parse_number(u_text[:-1], f"{what} uncertainty") / 100.0 * thickness
+    else:
+        sigma = parse_length_nm(u_text, what=f"{what} uncertainty")
+    if not sigma > 0:
+        raise FilmopticError(
+            f"{what}: the uncertainty after ± must be positive, got {u_text!r} (leave it out if unknown)"
+        )
+    return thickness, sigma
+
+
 def parse_run(text: str, tooling_factor: float | None = None) -> Run:
     """Parse a ``--run`` value: ``DURATION:THICKNESS``.
 
-    THICKNESS is a length (``21.8nm``), ``monitor=LENGTH`` for a crystal-monitor reading (multiplied
-    by the tooling factor, which must then be given), or the path of a ``filmoptic solve --json``
-    output file whose first solution gives the thickness and its interval.
+    THICKNESS is a length (``21.8nm``), optionally with its standard uncertainty (``21.8nm+-0.4nm``,
+    ``21.8nm±2%``, see :func:`parse_thickness`); ``monitor=LENGTH`` (with the same optional
+    uncertainty) for a crystal-monitor reading, multiplied by the tooling factor, which must then be
+    given; or the path of a ``filmoptic solve --json`` output file whose first solution gives the
+    thickness and, from its interval, the uncertainty.
 
     Examples
     --------
@@ -144,46 +220,66 @@ def parse_run(text: str, tooling_factor: float | None = None) -> Run:
     300.0
     >>> parse_run("90s:monitor=10nm", tooling_factor=1.2).thickness_nm
     12.0
+    >>> parse_run("10min:21.8nm+-0.4nm").sigma_nm
+    0.4
     """
     text = str(text).strip()
     if ":" not in text:
         raise FilmopticError(f"--run: expected DURATION:THICKNESS such as '5min:21.8nm', got {text!r}")
     duration_text, thickness_text = (part.strip() for part in text.split(":", 1))
     duration = parse_duration_s(duration_text, what=f"--run {text!r}: duration")
-    sigma = None
+    what = f"--run {text!r}: thickness"
     if thickness_text.lower().startswith("monitor="):
         if tooling_factor is None:
             raise FilmopticError(
                 f"--run {text!r}: a monitor reading needs the tooling factor (--tooling)"
             )
-        indicated = parse_length_nm(thickness_text.split("=", 1)[1], what=f"--run {text!r}: thickness")
+        indicated, sigma = parse_thickness(thickness_text.split("=", 1)[1], what=what)
         thickness = indicated * tooling_factor
+        sigma = None if sigma is None else sigma * tooling_factor
     elif thickness_text.lower().endswith(".json"):
         thickness, sigma = thickness_from_solve_file(thickness_text)
     else:
-        thickness = parse_length_nm(thickness_text, what=f"--run {text!r}: thickness")
+        thickness, sigma = parse_thickness(thickness_text, what=what)
     return Run(duration, thickness, sigma, thickness_text)
 
 
-def _line_fit(t, d, sigma):
-    """Least-squares straight line d = a·t + b; returns (a, b, covariance or None).
+def _run_sigmas(runs) -> np.ndarray | None:
+    """Each run's thickness uncertainty, or None when no run has one; a mix is an error (a
+    weighted fit needs every weight, and dropping the uncertainties given would hide them)."""
+    missing = [i + 1 for i, r in enumerate(runs) if r.sigma_nm is None]
+    if len(missing) == len(runs):
+        return None
+    if missing:
+        which = ", ".join(str(i) for i in missing)
+        raise FilmopticError(
+            f"rate: run{'s' if len(missing) > 1 else ''} {which} carr{'y' if len(missing) > 1 else 'ies'} no "
+            "thickness uncertainty but the others do; give every run one (e.g. 10min:21.8nm+-0.4nm) "
+            "or none (a solve file made without --uncertainty carries none)"
+        )
+    sigma = np.array([r.sigma_nm for r in runs], dtype=float)
+    if not np.all(np.isfinite(sigma) & (sigma > 0)):
+        raise FilmopticError("rate: a thickness uncertainty must be a positive number of nm")
+    return sigma
 
-    With known σ the covariance is (AᵀWA)⁻¹; otherwise it is scaled by the residual variance
-    s² = SSR/(n − 2), which needs at least three runs.
+
+def _least_squares(design, d, weights):
+    """Weighted linear least squares: coefficients and (AᵀWA)⁻¹ for design matrix A, W = diag(w).
+
+    (AᵀWA)⁻¹ is the covariance of the coefficients when the weights are 1/σ² of known σ
+    (Bevington & Robinson, ch. 7); otherwise it still needs the residual variance as a factor.
     """
-    design = np.column_stack([t, np.ones_like(t)])
-    weights = np.ones_like(t) if sigma is None else 1.0 / sigma**2
     normal = design.T @ (design * weights[:, None])
-    if abs(np.linalg.det(normal)) <= 1e-12 * np.abs(normal).max() ** 2:
+    if abs(np.linalg.det(normal)) <= 1e-12 * np.abs(normal).max() ** normal.shape[0]:
         raise FilmopticError("--run: the runs need at least two different durations to fit an offset")
     coeffs = np.linalg.solve(normal, design.T @ (weights * d))
-    inverse = np.linalg.inv(normal)
-    if sigma is not None:
-        return coeffs[0], coeffs[1], inverse
-    if len(t) > 2:
-        residual = d - design @ coeffs
-        return coeffs[0], coeffs[1], inverse * float(residual @ residual) / (len(t) - 2)
-    return coeffs[0], coeffs[1], None
+    return coeffs, np.linalg.inv(normal)
+
+
+def _propagate(grad, cov) -> float:
+    """First-order standard deviation of a function with gradient ``grad`` of parameters with
+    covariance ``cov``: √(gᵀ C g) (Bevington & Robinson, eq. 3.13, covariance term included)."""
+    return float(math.sqrt(max(float(grad @ cov @ grad), 0.0)))
 
 
 def fit_rate(runs, target_nm: float | None = None, tooling_factor: float | None = None,
@@ -193,6 +289,7 @@ def fit_rate(runs, target_nm: float | None = None, tooling_factor: float | None 
     Parameters
     ----------
     runs : sequence of Run
+        Either every run carries a thickness uncertainty (``sigma_nm``) or none does.
     target_nm : float, optional
         Thickness wanted from the next run; the result then gives ``time_s``.
     tooling_factor : float, optional
@@ -208,21 +305,30 @@ def fit_rate(runs, target_nm: float | None = None, tooling_factor: float | None 
 
     Notes
     -----
-    Ordinary least squares for a straight line with the usual standard errors
-    s·√(1/Sxx) for the slope and s·√(1/n + x̄²/Sxx) for the intercept, s² = SSR/(n − 2);
-    weighted by 1/σᵢ² when every run carries an uncertainty, with covariance (AᵀWA)⁻¹.
+    With uncertainties σᵢ on every run: weighted least squares (weights 1/σᵢ²); the covariance of
+    (rate, offset) is (AᵀWA)⁻¹ whatever the number of runs, χ² = Σ(rᵢ/σᵢ)² is reported with
+    n − p degrees of freedom. Without: ordinary least squares with the usual standard errors
+    s·√(1/Sxx) for the slope and s·√(1/n + x̄²/Sxx) for the intercept, s² = SSR/(n − p), which
+    needs more runs than fitted parameters. The time for a target, t = (D − b)/a, and the dead time
+    −b/a get first-order uncertainties √(gᵀCg) with the full covariance C.
 
     References
     ----------
-    N. R. Draper & H. Smith, *Applied Regression Analysis*, 3rd ed., Wiley (1998), ch. 1;
     P. R. Bevington & D. K. Robinson, *Data Reduction and Error Analysis for the Physical
-    Sciences*, 3rd ed., McGraw-Hill (2003), ch. 6.
+    Sciences*, 3rd ed., McGraw-Hill (2003), ch. 3 (eq. 3.13), ch. 6 and ch. 7 (from memory);
+    N. R. Draper & H. Smith, *Applied Regression Analysis*, 3rd ed., Wiley (1998), ch. 1.
 
     Examples
     --------
     >>> fit = fit_rate([Run(240, 9.0), Run(600, 22.5)], target_nm=15.0)
-    >>> round(fit.rate_nm_per_s, 6), round(fit.time_s, 1)
-    (0.0375, 400.0)
+    >>> round(fit.rate_nm_per_s, 6), round(fit.time_s, 1), fit.time_sigma_s
+    (0.0375, 400.0, None)
+
+    The same two runs, each thickness known to ±0.3 nm, give the time an error bar:
+
+    >>> fit = fit_rate([Run(240, 9.0, 0.3), Run(600, 22.5, 0.3)], target_nm=15.0)
+    >>> round(fit.time_s, 1), round(fit.time_sigma_s, 1)
+    (400.0, 5.7)
     """
     runs = tuple(runs)
     if not runs:
@@ -233,33 +339,38 @@ def fit_rate(runs, target_nm: float | None = None, tooling_factor: float | None 
         raise FilmopticError("--target must be a positive thickness")
     t = np.array([r.duration_s for r in runs], dtype=float)
     d = np.array([r.thickness_nm for r in runs], dtype=float)
-    weighted = all(r.sigma_nm is not None and r.sigma_nm > 0 for r in runs)
-    sigma = np.array([r.sigma_nm for r in runs], dtype=float) if weighted else None
+    sigma = _run_sigmas(runs)
+    weighted = sigma is not None
     origin = len(runs) == 1 if through_origin is None else bool(through_origin)
+    if not origin and len(runs) < 2:
+        raise FilmopticError("rate: fitting an offset needs at least two runs")
 
-    if origin:
-        w = np.ones_like(t) if sigma is None else 1.0 / sigma**2
-        rate = float(np.sum(w * t * d) / np.sum(w * t * t))
-        offset = 0.0
-        if sigma is not None:
-            var_rate = 1.0 / float(np.sum(w * t * t))
-        elif len(runs) > 1:
-            residual = d - rate * t
-            var_rate = float(residual @ residual) / (len(runs) - 1) / float(t @ t)
-        else:
-            var_rate = None
-        cov = None if var_rate is None else np.array([[var_rate, 0.0], [0.0, 0.0]])
+    design = t[:, None] if origin else np.column_stack([t, np.ones_like(t)])
+    weights = np.ones_like(t) if sigma is None else 1.0 / sigma**2
+    coeffs, inverse = _least_squares(design, d, weights)
+    residual = d - design @ coeffs
+    dof = len(runs) - design.shape[1]
+    chi2 = chi2_probability = None
+    if weighted:
+        cov = inverse
+        chi2 = float(np.sum(weights * residual**2))
+        if dof > 0:
+            from scipy.stats import chi2 as chi2_distribution
+
+            chi2_probability = float(chi2_distribution.sf(chi2, dof))
+    elif dof > 0:
+        cov = inverse * float(residual @ residual) / dof
     else:
-        if len(runs) < 2:
-            raise FilmopticError("rate: fitting an offset needs at least two runs")
-        rate, offset, cov = _line_fit(t, d, sigma)
-        rate, offset = float(rate), float(offset)
+        cov = None
+    if cov is not None and origin:
+        cov = np.array([[cov[0, 0], 0.0], [0.0, 0.0]])
+    rate = float(coeffs[0])
+    offset = 0.0 if origin else float(coeffs[1])
 
     if not rate > 0:
         raise FilmopticError(
             f"rate: the runs give a rate of {rate:.4g} nm/s; longer runs must give thicker films"
         )
-    residual = d - (rate * t + offset)
     time_s = time_sigma = endpoint = None
     if target_nm is not None:
         time_s = (target_nm - offset) / rate
@@ -269,21 +380,28 @@ def fit_rate(runs, target_nm: float | None = None, tooling_factor: float | None 
                 "the runs cannot predict so thin a film"
             )
         if cov is not None:
-            # t = (D - b)/a: ∂t/∂a = -t/a, ∂t/∂b = -1/a (first-order propagation).
-            grad = np.array([-time_s / rate, -1.0 / rate])
-            time_sigma = float(math.sqrt(max(grad @ cov @ grad, 0.0)))
+            # t = (D − b)/a: ∂t/∂a = −t/a, ∂t/∂b = −1/a.
+            time_sigma = _propagate(np.array([-time_s / rate, -1.0 / rate]), cov)
         if tooling_factor is not None:
             endpoint = target_nm / tooling_factor
+    dead_sigma = None
+    if cov is not None and not origin:
+        # t₀ = −b/a: ∂t₀/∂a = b/a², ∂t₀/∂b = −1/a.
+        dead_sigma = _propagate(np.array([offset / rate**2, -1.0 / rate]), cov)
     return RateFit(
         rate_nm_per_s=rate,
         rate_sigma_nm_per_s=None if cov is None else float(math.sqrt(cov[0, 0])),
         offset_nm=offset,
         offset_sigma_nm=None if cov is None or origin else float(math.sqrt(cov[1, 1])),
         dead_time_s=-offset / rate,
+        dead_time_sigma_s=dead_sigma,
         covariance=None if cov is None else tuple(map(tuple, cov.tolist())),
         through_origin=origin,
         weighted=weighted,
         residual_rms_nm=float(math.sqrt(np.mean(residual**2))),
+        chi2=chi2,
+        degrees_of_freedom=dof,
+        chi2_probability=chi2_probability,
         target_nm=target_nm,
         time_s=time_s,
         time_sigma_s=time_sigma,

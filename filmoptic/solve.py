@@ -4,6 +4,14 @@ A stack with one free thickness (``"Ti ? / glass 4mm"``) and one or more *condit
 transmittance to reach, a colour to match, a lux-meter reading to explain — give every thickness in
 a range that meets them.
 
+Conditions
+----------
+:class:`Target` (a luminous value, or T or R at one wavelength), :class:`ColourTarget` (CIELAB,
+nearest by ΔE00) and :class:`Reading` (a band-weighted transmittance reading; its model of sources,
+detectors and references is :mod:`filmoptic.readings`). Each is bound to the stack by its
+``prepare`` method, which gives the forward model: the quantity at any array of thicknesses, in one
+engine call.
+
 Method
 ------
 1. The quantity is evaluated on a dense thickness grid in **one** vectorised call of the
@@ -26,24 +34,15 @@ Method
    connected set where χ² ≤ χ²_min + 1 (the usual one-parameter 68 % interval,
    Press et al., *Numerical Recipes*, 3rd ed., §15.6).
 
-Readings
---------
-A reading is a band-weighted transmittance
-``T̄ = ∫ S(λ) D(λ) T(λ) dλ / ∫ S(λ) D(λ) dλ`` for a light source S and a detector D, on the
-overlap of their wavelength ranges and of the stack's optical-constant tables (sums on a grid with
-the same Δλ rule as :mod:`filmoptic.colorimetry`). With ``reference="bare"`` the reading is the
-ratio of the coated to the uncoated piece, ``T̄_coated / T̄_bare``, so the substrate's own
-reflection and absorption losses divide out. Only transmittance readings are modelled: a reflectance
-reading depends on the geometry of the set-up far more than a transmittance one.
+The grid machinery of steps 2–4 (brackets, root and minimum refinement, intervals) is generic and
+lives in :mod:`filmoptic.roots`.
 
 References
 ----------
 H. A. Macleod, *Thin-Film Optical Filters*, 4th ed., CRC Press (2010), ch. 2 (characteristic
 matrices) and ch. 3 (periodicity of a single layer's response, n·d = m·λ/4 extrema).
-M. Dowell & R. Jarratt, "A modified regula falsi method for computing the root of an equation",
-BIT 11, 168 (1971) (the Illinois method).
-J. Kiefer, "Sequential minimax search for a maximum", Proc. Amer. Math. Soc. 4, 502 (1953)
-(golden-section search).
+The Illinois method (Dowell & Jarratt 1971) and golden-section search (Kiefer 1953): see
+:mod:`filmoptic.roots` for the full citations.
 ISO 9050:2003 (luminous transmittance and reflectance); CIE 15:2018 (colour); ISO/CIE 11664-6
 (ΔE00).
 """
@@ -58,7 +57,17 @@ from typing import Callable
 import numpy as np
 
 from .errors import FilmopticError
-from .units import parse_fraction, parse_number
+from .readings import REFERENCES, band_weights, covered_range_nm, reference_level
+from .roots import (
+    find_minima,
+    find_roots,
+    first_brackets,
+    interval_around,
+    refine_roots,
+    touching_roots,
+    unique_points,
+)
+from .units import parse_number
 
 __all__ = [
     "ROOT_TOLERANCE",
@@ -70,21 +79,14 @@ __all__ = [
     "Solution",
     "SolveResult",
     "BatchResult",
-    "parse_reading",
     "parse_uncertainty",
     "parse_lab",
     "lab_from_hex",
-    "band_weights",
     "default_range_nm",
     "grid_step_nm",
-    "find_roots",
-    "find_minima",
-    "interval_around",
     "solve_thickness",
     "solve_batch",
     "evaluate_condition",
-    "refine_roots",
-    "refine_minima",
 ]
 
 #: A root is accepted when the forward model reproduces the target to this (absolute, on 0–1
@@ -132,8 +134,26 @@ def _lab(wl, values, illuminant="D65", observer=2) -> np.ndarray:
     return colour.XYZ_to_Lab(XYZ / 100.0, white[:2] / white.sum())
 
 
+def _channel(stack, wl, channel, side, angle_deg, extrapolate):
+    """The forward model of one channel ("R", "T" or "A") of the stack on ``wl``, seen from
+    ``side``: thicknesses (n,) → values (n, W), one engine call."""
+
+    def spectra(t):
+        spectrum = _spectra(stack, wl, t, angle_deg, side == "reverse", extrapolate)
+        return np.asarray(getattr(spectrum, channel), dtype=float)
+
+    return spectra
+
+
+class _ScalarCondition:
+    """What the scalar conditions share: a copy with another value (a row of a batch)."""
+
+    def with_value(self, value: float, uncertainty: float | None = None):
+        return replace(self, value=value, uncertainty=self.uncertainty if uncertainty is None else uncertainty)
+
+
 @dataclass(frozen=True)
-class Target:
+class Target(_ScalarCondition):
     """A design target on a scalar quantity.
 
     Attributes
@@ -178,26 +198,21 @@ class Target:
             name += " (substrate side)"
         return name
 
-    def with_value(self, value: float, uncertainty: float | None = None) -> "Target":
-        return replace(self, value=value, uncertainty=self.uncertainty if uncertainty is None else uncertainty)
-
     def prepare(self, stack, angle_deg=0.0, extrapolate=False):
         from .colorimetry import luminous
 
         if self.quantity.startswith("luminous"):
             wl = _visible()
-            channel = self.quantity[-1]
+            spectra = _channel(stack, wl, self.quantity[-1], self.side, angle_deg, extrapolate)
 
             def evaluate(t):
-                spectrum = _spectra(stack, wl, t, angle_deg, self.side == "reverse", extrapolate)
-                return np.asarray(luminous(wl, getattr(spectrum, channel), self.illuminant), dtype=float)
+                return np.asarray(luminous(wl, spectra(t), self.illuminant), dtype=float)
         else:
             wl = np.array([float(self.wavelength_nm)])
-            channel = self.quantity
+            spectra = _channel(stack, wl, self.quantity, self.side, angle_deg, extrapolate)
 
             def evaluate(t):
-                spectrum = _spectra(stack, wl, t, angle_deg, self.side == "reverse", extrapolate)
-                return np.asarray(getattr(spectrum, channel), dtype=float)[..., 0]
+                return spectra(t)[..., 0]
 
         return _Prepared(self, evaluate, wl)
 
@@ -244,17 +259,20 @@ class ColourTarget:
     def prepare(self, stack, angle_deg=0.0, extrapolate=False):
         wl = _visible()
         channel = "R" if self.appearance == "reflected" else "T"
+        spectra = _channel(stack, wl, channel, self.side, angle_deg, extrapolate)
 
         def evaluate(t):
-            spectrum = _spectra(stack, wl, t, angle_deg, self.side == "reverse", extrapolate)
-            return _lab(wl, getattr(spectrum, channel), self.illuminant)
+            return _lab(wl, spectra(t), self.illuminant)
 
         return _Prepared(self, evaluate, wl)
 
 
 @dataclass(frozen=True)
-class Reading:
+class Reading(_ScalarCondition):
     """A measured transmittance reading: a light source, a detector and a reference.
+
+    The reading's model (band weighting, the bare-substrate reference) is
+    :mod:`filmoptic.readings`.
 
     Attributes
     ----------
@@ -282,7 +300,7 @@ class Reading:
     kind: str = field(default="scalar", init=False)
 
     def __post_init__(self):
-        if self.reference not in ("open", "bare"):
+        if self.reference not in REFERENCES:
             raise FilmopticError(f"--reference must be 'open' or 'bare', got {self.reference!r}")
         _check_fraction(self.value, "the reading")
         _check_uncertainty(self.uncertainty)
@@ -291,23 +309,13 @@ class Reading:
         ref = "open beam" if self.reference == "open" else "bare substrate"
         return f"reading ({self.source} source, {self.detector} detector, relative to {ref})"
 
-    def with_value(self, value: float, uncertainty: float | None = None) -> "Reading":
-        return replace(self, value=value, uncertainty=self.uncertainty if uncertainty is None else uncertainty)
-
     def prepare(self, stack, angle_deg=0.0, extrapolate=False):
-        wl, weights = band_weights(self.source, self.detector, _stack_range_nm(stack, extrapolate))
-        bare = 1.0
-        if self.reference == "bare":
-            from .engine import compute
-
-            bare_T = compute(stack.bare(), wl, angle_deg=angle_deg, extrapolate=extrapolate).T
-            bare = float(np.asarray(bare_T) @ weights)
-            if not bare > 0:
-                raise FilmopticError("the bare substrate transmits nothing in this band; use --reference open")
+        wl, weights = band_weights(self.source, self.detector, covered_range_nm(stack, extrapolate))
+        level = reference_level(stack, self.reference, wl, weights, angle_deg=angle_deg, extrapolate=extrapolate)
+        spectra = _channel(stack, wl, "T", "front", angle_deg, extrapolate)
 
         def evaluate(t):
-            spectrum = _spectra(stack, wl, t, angle_deg, False, extrapolate)
-            return (np.asarray(spectrum.T, dtype=float) @ weights) / bare
+            return (spectra(t) @ weights) / level
 
         return _Prepared(self, evaluate, wl)
 
@@ -325,6 +333,11 @@ class _Prepared:
         t = np.asarray(t, dtype=float)
         out = np.asarray(self.flat_evaluate(t.reshape(-1)), dtype=float)
         return out.reshape(t.shape + out.shape[1:])
+
+    def offset_from(self, goal):
+        """``t ↦ quantity(t) − goal``: the function whose roots meet a scalar goal (an array of
+        goals works elementwise)."""
+        return lambda t: self.evaluate(t) - goal
 
     @property
     def kind(self) -> str:
@@ -366,57 +379,9 @@ def _spectra(stack, wl, t, angle_deg, reverse, extrapolate):
                    extrapolate=extrapolate)
 
 
-def _materials(stack):
-    yield stack.ambient
-    yield stack.exit_medium
-    yield stack.substrate.material
-    for layer in stack.layers:
-        yield layer.material
-
-
-def _stack_range_nm(stack, extrapolate=False) -> tuple[float, float]:
-    """Wavelengths every optical-constant table of the stack covers."""
-    if extrapolate:
-        return 0.0, math.inf
-    lo, hi = 0.0, math.inf
-    for material in _materials(stack):
-        a, b = material.wavelength_range_nm
-        lo, hi = max(lo, float(a)), min(hi, float(b))
-    return lo, hi
-
-
 # --------------------------------------------------------------------------------------------
 # Parsing of what people type
 # --------------------------------------------------------------------------------------------
-
-
-def parse_reading(text) -> float:
-    """A reading as a fraction: ``0.304``, ``30.4%`` or the two raw numbers ``SAMPLE/REFERENCE``.
-
-    Examples
-    --------
-    >>> round(parse_reading("318/1045"), 4)
-    0.3043
-    >>> parse_reading("30%")
-    0.3
-    """
-    s = str(text).strip()
-    if "/" in s:
-        parts = s.split("/")
-        if len(parts) != 2:
-            raise FilmopticError(f"--reading: write SAMPLE/REFERENCE like 318/1045, got {text!r}")
-        sample = parse_number(parts[0], "--reading sample")
-        reference = parse_number(parts[1], "--reading reference")
-        if reference <= 0 or sample < 0:
-            raise FilmopticError(f"--reading {text!r}: both readings must be positive")
-        value = sample / reference
-        if value > 1:
-            raise FilmopticError(
-                f"--reading {text!r}: the sample ({sample:g}) reads more than the reference ({reference:g}); "
-                "a transmittance reading must lie in [0, 1]"
-            )
-        return value
-    return parse_fraction(s, what="--reading")
 
 
 def parse_uncertainty(text, value: float | None = None, what: str = "--uncertainty") -> float:
@@ -486,340 +451,6 @@ def lab_from_hex(text, illuminant="D65") -> tuple:
                             apply_cctf_decoding=True)
     Lab = colour.XYZ_to_Lab(XYZ, white_xy)
     return tuple(float(v) for v in Lab)
-
-
-# --------------------------------------------------------------------------------------------
-# Light sources and detectors
-# --------------------------------------------------------------------------------------------
-
-_LASER = re.compile(r"^laser:\s*([0-9.eE+-]+)\s*(nm)?$", re.IGNORECASE)
-_LED = re.compile(r"^led:\s*([0-9.eE+-]+)\s*(?:nm)?\s*/\s*([0-9.eE+-]+)\s*(nm)?$", re.IGNORECASE)
-#: Sampling step for broadband sources and detectors, nm (the CIE tables' own 5 nm spacing).
-BAND_STEP_NM = 5.0
-
-
-def _tabulated(name: str, what: str):
-    """A TabulatedSpectrum for an illuminant name or a file (as colorimetry reads them)."""
-    from . import colorimetry
-
-    if what == "detector":
-        return colorimetry.read_spectrum_file(name, what="detector response file")
-    colorimetry.check_illuminant(name)
-    # colorimetry resolves names and files to one tabulated form; its range is what we need.
-    return colorimetry._resolve_illuminant(name)
-
-
-def band_weights(source: str, detector: str, material_range_nm=(0.0, math.inf)):
-    """Wavelength grid and normalised weights ``w`` (summing to 1) of a reading.
-
-    A band-weighted transmittance is then ``T @ w``, i.e. ``Σ S D T Δλ / Σ S D Δλ`` on the overlap of
-    the source's, the detector's and the optical-constant tables' ranges.
-
-    Parameters
-    ----------
-    source : str
-        Illuminant name, ``laser:WL``, ``led:WL/FWHM`` or a spectrum file.
-    detector : str
-        ``photopic``, ``flat`` or a response file.
-    material_range_nm : tuple
-        Wavelength range the stack's optical constants cover.
-
-    Returns
-    -------
-    wavelength_nm, weights : numpy.ndarray
-
-    Examples
-    --------
-    >>> wl, w = band_weights("laser:633", "flat")
-    >>> wl.tolist(), w.tolist()
-    ([633.0], [1.0])
-    """
-    from .colorimetry import _interval_widths, photopic_efficiency
-
-    src = str(source).strip()
-    det = str(detector).strip()
-    lo, hi = float(material_range_nm[0]), float(material_range_nm[1])
-
-    # Detector: a response function and its domain.
-    if det.lower() == "photopic":
-        det_range = (360.0, 830.0)   # CIE 1924 V(λ) as tabulated (CIE 15:2018, Table 1)
-        response = photopic_efficiency
-    elif det.lower() == "flat":
-        det_range = (0.0, math.inf)
-        response = np.ones_like
-    else:
-        table = _tabulated(det, "detector")
-        det_range = table.range_nm
-        response = table.at
-    lo, hi = max(lo, det_range[0]), min(hi, det_range[1])
-
-    laser = _LASER.match(src)
-    led = _LED.match(src)
-    if laser:
-        wl0 = parse_number(laser.group(1), "--source laser wavelength")
-        if wl0 <= 0:
-            raise FilmopticError(f"--source {src!r}: the wavelength must be positive (nm)")
-        if not lo <= wl0 <= hi:
-            raise FilmopticError(
-                f"--source {src!r}: {wl0:g} nm lies outside what the detector and the optical constants "
-                f"cover ({lo:g}–{hi:g} nm)"
-            )
-        wl = np.array([wl0])
-        weights = np.asarray(response(wl), dtype=float)
-        if not weights[0] > 0:
-            raise FilmopticError(f"--source {src!r}: the detector does not respond at {wl0:g} nm")
-        return wl, np.ones(1)
-    if led:
-        centre = parse_number(led.group(1), "--source LED wavelength")
-        fwhm = parse_number(led.group(2), "--source LED width")
-        if centre <= 0 or fwhm <= 0:
-            raise FilmopticError(f"--source {src!r}: write led:CENTRE/FWHM with positive numbers in nm")
-        sigma = fwhm / (2.0 * math.sqrt(2.0 * math.log(2.0)))
-        # ±4σ holds all but 6e-5 of a Gaussian's power; sample at least 40 points across it.
-        lo, hi = max(lo, centre - 4 * sigma), min(hi, centre + 4 * sigma)
-        step = min(BAND_STEP_NM, 8 * sigma / 40)
-
-        def power(w):
-            return np.exp(-0.5 * ((w - centre) / sigma) ** 2)
-    else:
-        table = _tabulated(src, "source")
-        lo, hi = max(lo, table.range_nm[0]), min(hi, table.range_nm[1])
-        step = BAND_STEP_NM
-        power = table.at
-    if not hi > lo:
-        raise FilmopticError(
-            f"--source {src!r} and --detector {det!r} share no wavelengths with each other and the "
-            "optical-constant tables"
-        )
-    start = math.ceil(lo / step - 1e-9) * step
-    wl = start + step * np.arange(int(math.floor((hi - start) / step + 1e-9)) + 1)
-    if wl.size < 2:
-        wl = np.array([lo, hi])
-    weights = power(wl) * np.asarray(response(wl), dtype=float) * _interval_widths(wl)
-    total = weights.sum()
-    if not total > 0:
-        raise FilmopticError(f"--source {src!r} and --detector {det!r}: the detector sees none of the source's light")
-    return wl, weights / total
-
-
-# --------------------------------------------------------------------------------------------
-# Root finding and minimisation on a thickness grid (pure numpy, vectorised over problems)
-# --------------------------------------------------------------------------------------------
-
-
-def grid_step_nm(wavelength_min_nm: float, n_max: float) -> float:
-    """Grid step that cannot miss a root: ``min(1 nm, λ_min / (32 · n_max))``.
-
-    A transparent layer of index n repeats its response every λ/(2n) of thickness and is monotone
-    over at most λ/(4n) (Macleod, *Thin-Film Optical Filters*, ch. 3); the step puts at least
-    eight grid points on every monotone piece.
-
-    Examples
-    --------
-    >>> grid_step_nm(380.0, 2.6) < 380.0 / (4 * 2.6) / 8 + 1e-12
-    True
-    """
-    return min(1.0, float(wavelength_min_nm) / (32.0 * max(float(n_max), 1.0)))
-
-
-def _brackets(g):
-    """Indices of exact zeros and of sign changes (i: between g[i] and g[i+1]) along the last axis."""
-    zero = g == 0
-    change = (g[..., :-1] * g[..., 1:]) < 0
-    return zero, change
-
-
-def refine_roots(fun, a, b, fa, fb, xtol=1e-9, ftol=1e-13, maxiter=100):
-    """Vectorised Illinois iteration: roots of ``fun`` in brackets ``[a, b]`` with ``fa·fb < 0``.
-
-    ``fun`` maps an array of thicknesses to an array of the same shape. Every iteration costs one
-    call for all brackets together.
-
-    References
-    ----------
-    M. Dowell & R. Jarratt, BIT 11, 168 (1971).
-    """
-    a, b = np.array(a, dtype=float), np.array(b, dtype=float)
-    fa, fb = np.array(fa, dtype=float), np.array(fb, dtype=float)
-    done = (np.abs(fb) <= ftol) | (np.abs(b - a) <= xtol)
-    for _ in range(maxiter):
-        if np.all(done):
-            break
-        with np.errstate(invalid="ignore", divide="ignore"):
-            c = b - fb * (b - a) / (fb - fa)
-        bad = ~np.isfinite(c) | (c <= np.minimum(a, b)) | (c >= np.maximum(a, b))
-        c = np.where(bad, 0.5 * (a + b), c)
-        c = np.where(done, b, c)
-        fc = np.asarray(fun(c), dtype=float)
-        crossed = fc * fb < 0
-        new_a = np.where(crossed, b, a)
-        new_fa = np.where(crossed, fb, 0.5 * fa)   # Illinois: halve the retained end's value
-        a, fa = np.where(done, a, new_a), np.where(done, fa, new_fa)
-        b, fb = np.where(done, b, c), np.where(done, fb, fc)
-        done = done | (np.abs(fb) <= ftol) | (np.abs(b - a) <= xtol)
-    return b
-
-
-def find_roots(fun, grid, g_grid, xtol=1e-9):
-    """Every root of ``fun`` on ``grid`` given its values ``g_grid`` there (1-D), sorted.
-
-    Exact zeros on grid points count once; every sign change is refined by :func:`refine_roots`.
-
-    Examples
-    --------
-    >>> t = np.linspace(0, 10, 101)
-    >>> np.round(find_roots(np.sin, t, np.sin(t)), 9).tolist()
-    [0.0, 3.141592654, 6.283185307, 9.424777961]
-    """
-    grid = np.asarray(grid, dtype=float)
-    g_grid = np.asarray(g_grid, dtype=float)
-    zero, change = _brackets(g_grid)
-    idx = np.flatnonzero(change)
-    roots = refine_roots(fun, grid[idx], grid[idx + 1], g_grid[idx], g_grid[idx + 1], xtol=xtol)
-    return _unique(np.concatenate([grid[zero], roots]))
-
-
-def _unique(x, tol=1e-6):
-    """Sorted, with points closer than ``tol`` merged (a root on a grid point can be bracketed from
-    both sides when rounding puts the grid value a hair off zero)."""
-    x = np.sort(np.asarray(x, dtype=float))
-    if x.size < 2:
-        return x
-    return x[np.concatenate([[True], np.diff(x) > tol])]
-
-
-_GOLDEN = (math.sqrt(5.0) - 1.0) / 2.0
-
-
-def refine_minima(fun, a, b, xtol=1e-6, maxiter=80):
-    """Vectorised golden-section search for minima of ``fun`` in ``[a, b]`` (elementwise).
-
-    Returns the abscissae and function values of the best points found (the bounds included).
-
-    References
-    ----------
-    J. Kiefer, Proc. Amer. Math. Soc. 4, 502 (1953).
-    """
-    a, b = np.array(a, dtype=float), np.array(b, dtype=float)
-    lo_a, hi_b = a.copy(), b.copy()
-    c = b - _GOLDEN * (b - a)
-    d = a + _GOLDEN * (b - a)
-    fc, fd = np.asarray(fun(c), dtype=float), np.asarray(fun(d), dtype=float)
-    for _ in range(maxiter):
-        if np.all(np.abs(b - a) <= xtol):
-            break
-        left = fc < fd
-        b = np.where(left, d, b)
-        a = np.where(left, a, c)
-        new_c = np.where(left, b - _GOLDEN * (b - a), d)
-        new_d = np.where(left, c, a + _GOLDEN * (b - a))
-        new_x = np.where(left, new_c, new_d)
-        fx = np.asarray(fun(new_x), dtype=float)
-        fd, fc = np.where(left, fc, fx), np.where(left, fx, fd)
-        c, d = new_c, new_d
-    x = np.where(fc < fd, c, d)
-    fx = np.minimum(fc, fd)
-    # The search interval may end on a bound (a minimum at the edge of the range).
-    fa_end, fb_end = np.asarray(fun(lo_a), dtype=float), np.asarray(fun(hi_b), dtype=float)
-    x = np.where(fa_end < fx, lo_a, x)
-    fx = np.minimum(fx, fa_end)
-    x = np.where(fb_end < fx, hi_b, x)
-    fx = np.minimum(fx, fb_end)
-    return x, fx
-
-
-def find_minima(fun, grid, r_grid, xtol=1e-6):
-    """Local minima of ``fun`` (residual ≥ 0) given its values ``r_grid`` on ``grid``.
-
-    A grid point not above either neighbour (range ends included) marks a minimum; it is refined
-    between its two neighbours by :func:`refine_minima`. Plateaus count once.
-
-    Examples
-    --------
-    >>> t = np.linspace(0, 10, 101)
-    >>> x, fx = find_minima(lambda x: np.cos(x) + 1, t, np.cos(t) + 1)
-    >>> np.round(x, 5).tolist()
-    [3.14159, 9.42478]
-    """
-    grid = np.asarray(grid, dtype=float)
-    r = np.asarray(r_grid, dtype=float)
-    n = r.size
-    left = np.concatenate([[np.inf], r[:-1]])
-    right = np.concatenate([r[1:], [np.inf]])
-    is_min = (r <= left) & (r <= right) & ~((r == left) & (np.arange(n) > 0))
-    idx = np.flatnonzero(is_min)
-    lo = grid[np.maximum(idx - 1, 0)]
-    hi = grid[np.minimum(idx + 1, n - 1)]
-    x, fx = refine_minima(fun, lo, hi, xtol=xtol)
-    order = np.argsort(x)
-    x, fx = x[order], fx[order]
-    # Neighbouring grid minima can refine to the same point; keep one.
-    keep = np.concatenate([[True], np.diff(x) > 10 * xtol]) if x.size else np.zeros(0, bool)
-    return x[keep], fx[keep]
-
-
-def interval_around(fun, grid, r_grid, t0, threshold, xtol=1e-9):
-    """Ends of the connected set ``{t : r(t) ≤ threshold}`` that contains each ``t0``.
-
-    Parameters
-    ----------
-    fun : callable
-        ``fun(t)`` → r(t) − threshold for arrays shaped like ``t0`` (elementwise problems).
-    grid : (G,) array
-    r_grid : (G,) or (k, G) array
-        The residual on the grid (per problem when 2-D).
-    t0 : (k,) array
-        Points inside the sets (r(t0) ≤ threshold).
-    threshold : float or (k,) array
-
-    Returns
-    -------
-    low, high : (k,) arrays
-        The ends; a set that reaches the end of the grid ends there.
-
-    Examples
-    --------
-    >>> t = np.linspace(-3, 3, 61)
-    >>> low, high = interval_around(lambda x: x**2 - 1.0, t, t**2, np.array([0.2]), 1.0)
-    >>> round(float(low[0]), 9), round(float(high[0]), 9)
-    (-1.0, 1.0)
-    """
-    grid = np.asarray(grid, dtype=float)
-    t0 = np.atleast_1d(np.asarray(t0, dtype=float))
-    k, G = t0.size, grid.size
-    thr = np.broadcast_to(np.asarray(threshold, dtype=float), (k,))
-    r = np.broadcast_to(np.asarray(r_grid, dtype=float), (k, G))
-    outside = r > thr[:, None]
-    i0 = np.searchsorted(grid, t0, side="right")            # grid[:i0] <= t0 < grid[i0:]
-    cols = np.arange(G)[None, :]
-    left_out = outside & (cols < i0[:, None])
-    right_out = outside & (cols >= i0[:, None])
-    has_left, has_right = left_out.any(axis=1), right_out.any(axis=1)
-    jl = G - 1 - np.argmax(left_out[:, ::-1], axis=1)
-    jr = np.argmax(right_out, axis=1)
-    rows = np.arange(k)
-
-    # Bracket [outside point, inside point]; the inside point is the next grid point or t0 itself.
-    l_out = grid[jl]
-    l_in = np.where(jl + 1 < i0, grid[np.minimum(jl + 1, G - 1)], t0)
-    r_out = grid[jr]
-    r_in = np.where(jr - 1 >= i0, grid[np.maximum(jr - 1, 0)], t0)
-    low = np.full(k, grid[0])
-    high = np.full(k, grid[-1])
-    if np.any(has_left) or np.any(has_right):
-        # Both ends of every problem are refined together: arrays of shape (2, k), which ``fun``
-        # handles elementwise (row 0: left ends, row 1: right ends).
-        outside_pts = np.stack([l_out, r_out])
-        inside_pts = np.stack([l_in, r_in])
-        f_out = np.stack([r[rows, jl], r[rows, jr]]) - thr
-        f_in = np.asarray(fun(inside_pts), dtype=float)
-        usable = np.stack([has_left, has_right]) & (f_in * f_out < 0)
-        a = np.where(usable, outside_pts, inside_pts)
-        fa = np.where(usable, f_out, 0.0)
-        ends = refine_roots(fun, a, inside_pts, fa, np.where(usable, f_in, 0.0), xtol=xtol)
-        low = np.where(has_left, np.where(usable[0], ends[0], inside_pts[0]), low)
-        high = np.where(has_right, np.where(usable[1], ends[1], inside_pts[1]), high)
-    return low, high
 
 
 # --------------------------------------------------------------------------------------------
@@ -988,6 +619,22 @@ def default_range_nm(material) -> tuple:
     return DEFAULT_RANGE_NM["metal" if getattr(material, "kind", "") == "metal" else "other"]
 
 
+def grid_step_nm(wavelength_min_nm: float, n_max: float) -> float:
+    """Grid step that cannot miss a root: ``min(1 nm, λ_min / (32 · n_max))``.
+
+    A transparent layer of index n repeats its response every λ/(2n) of thickness and is monotone
+    over at most λ/(4n) (Macleod, *Thin-Film Optical Filters*, ch. 3); the step puts at least
+    eight grid points on every monotone piece.
+
+    Examples
+    --------
+    >>> grid_step_nm(380.0, 2.6) < 380.0 / (4 * 2.6) / 8 + 1e-12
+    True
+    """
+    return min(1.0, float(wavelength_min_nm) / (32.0 * max(float(n_max), 1.0)))
+
+
+
 def _max_index(material, wl, extrapolate) -> float:
     n = np.real(np.asarray(material.nk(np.asarray(wl, dtype=float), extrapolate=extrapolate)))
     return float(np.max(n)) if n.size else 1.0
@@ -1025,48 +672,6 @@ def _fmt_value(prep, value) -> str:
     if prep.kind == "colour":
         return "L*a*b* {:.1f}, {:.1f}, {:.1f}".format(*np.asarray(value).tolist())
     return f"{100 * float(value):.2f} %"
-
-
-def _touching_roots(prep, target, grid, g, roots):
-    """Roots that no sign change on the grid brackets.
-
-    Near an extremum of the quantity the target may be met twice within one grid step, or only
-    touched (an extremum equal to the target, e.g. a half-wave absentee layer reading exactly the
-    bare substrate). Every grid minimum of |g| away from the sign changes is examined: the
-    extremum of g between its neighbours is located (golden section); if g changes sign there,
-    both roots are bracketed and refined; if it only reaches zero within :data:`ROOT_TOLERANCE`,
-    the extremum itself is the root.
-    """
-    a = np.abs(g)
-    inner = np.arange(1, a.size - 1)
-    is_min = (a[inner] < a[inner - 1]) & (a[inner] <= a[inner + 1])
-    idx = inner[is_min]
-    near_change = (g[idx - 1] * g[idx] < 0) | (g[idx] * g[idx + 1] < 0) | (g[idx] == 0)
-    idx = idx[~near_change]
-    sgn = np.sign(g[idx])
-    lo, hi = grid[idx - 1], grid[idx + 1]
-    if idx.size:
-        x, fx = refine_minima(lambda t: sgn * (prep.evaluate(t) - target), lo, hi, xtol=1e-10)
-    else:
-        x = fx = np.zeros(0)
-    touching = x[np.abs(fx) <= ROOT_TOLERANCE]
-    cross = fx < -ROOT_TOLERANCE
-    pairs = np.zeros(0)
-    if np.any(cross):
-        gx = sgn[cross] * fx[cross]
-        a_ = np.concatenate([lo[cross], x[cross]])
-        b_ = np.concatenate([x[cross], hi[cross]])
-        fa = np.concatenate([g[idx - 1][cross], gx])
-        fb = np.concatenate([gx, g[idx + 1][cross]])
-        pairs = refine_roots(lambda t: prep.evaluate(t) - target, a_, b_, fa, fb)
-    # The range ends: a value within tolerance there, with no sign change next to it, is a root
-    # (e.g. a reading of exactly the bare substrate at zero thickness).
-    ends = [grid[i] for i, j in ((0, 1), (-1, -2))
-            if abs(g[i]) <= ROOT_TOLERANCE and g[i] * g[j] > 0]
-    found = np.concatenate([touching, pairs, np.asarray(ends, dtype=float)])
-    if roots.size and found.size:
-        found = found[np.min(np.abs(found[:, None] - roots[None, :]), axis=1) > 1e-6]
-    return found
 
 
 def evaluate_condition(stack, condition, thickness_nm, *, angle_deg=0.0, extrapolate=False, ambient="air"):
@@ -1196,19 +801,19 @@ def solve_thickness(stack, conditions, *, range_nm=None, step_nm=None, angle_deg
         prep = prepared[0]
         target, u = prep.condition.value, prep.condition.uncertainty
         g = on_grid[0] - target
-        x = find_roots(lambda t: prep.evaluate(t) - target, grid, g)
-        x = _unique(np.concatenate([x, _touching_roots(prep, target, grid, g, x)]))
+        offset = prep.offset_from(target)
+        x = find_roots(offset, grid, g)
+        x = unique_points(np.concatenate([x, touching_roots(offset, grid, g, x, ROOT_TOLERANCE)]))
         exact = np.ones(x.size, bool)
         residual = np.zeros(x.size)
         if x.size:
             if u > 0:
-                low, high = interval_around(lambda t: np.abs(prep.evaluate(t) - target) - u,
-                                            grid, np.abs(g), x, u)
+                low, high = interval_around(lambda t: np.abs(offset(t)) - u, grid, np.abs(g), x, u)
             else:
                 low, high = x.copy(), x.copy()
         else:
             # Unmet: the nearest approach is a minimum of |g|; a tangent touch within tolerance counts.
-            mx, mf = find_minima(lambda t: np.abs(prep.evaluate(t) - target), grid, np.abs(g))
+            mx, mf = find_minima(lambda t: np.abs(offset(t)), grid, np.abs(g))
             best = int(np.argmin(mf))
             if mf[best] <= ROOT_TOLERANCE:
                 x, exact, residual = mx[best:best + 1], np.ones(1, bool), np.zeros(1)
@@ -1350,7 +955,7 @@ def _polish(prep, x0, goal, dspline, lo, hi):
         if np.any(crossing):
             sub = np.flatnonzero(bad)[crossing]
             g = goal[sub]
-            fixed = refine_roots(lambda t: prep.evaluate(t) - g, a[crossing], b[crossing], fa[crossing], fb[crossing])
+            fixed = refine_roots(prep.offset_from(g), a[crossing], b[crossing], fa[crossing], fb[crossing])
             x[sub] = fixed
             qx[sub] = prep.evaluate(fixed)
     return x, qx
@@ -1399,31 +1004,8 @@ def solve_batch(stack, condition, values, *, uncertainty=0.0, relative_uncertain
     step_done(1)
     u = np.abs(values) * uncertainty if relative_uncertainty else np.full(values.size, float(uncertainty))
     N = values.size
-    first = np.full(N, -1, dtype=int)
-    count = np.zeros(N, dtype=int)
-    exact_zero = np.zeros(N, bool)
-    for start in range(0, N, chunk):   # chunks bound the rows × grid mask's memory
-        v = values[start:start + chunk, None]
-        g = q[None, :] - v
-        zero, change = _brackets(g)
-        hit = change | zero[:, :-1]
-        count[start:start + chunk] = change.sum(axis=1) + zero.sum(axis=1)
-        has = hit.any(axis=1)
-        first[start:start + chunk] = np.where(has, np.argmax(hit, axis=1), -1)
-        exact_zero[start:start + chunk] = has & zero[np.arange(len(v)), np.maximum(np.argmax(hit, axis=1), 0)]
-    last_zero = (q[-1] == values) & (first < 0)
-    first = np.where(last_zero, grid.size - 2, first)
-    count = np.maximum(count, last_zero.astype(int))
-    ok = first >= 0
-    j = np.maximum(first, 0)
-    a, b = grid[j], grid[j + 1]
-    fa, fb = q[j] - values, q[j + 1] - values
-    a = np.where(last_zero, grid[-1], a)
-    fa = np.where(last_zero, 0.0, fa)
-    # Exact grid hits and unsolvable rows get a zero-width bracket that refine_roots leaves alone.
-    at_a = ok & (fa == 0)
-    b = np.where(at_a | ~ok, a, b)
-    fb = np.where(at_a | ~ok, 0.0, fb)
+    # Each row's first bracket; exact grid hits and unreachable rows get a zero-width one.
+    a, b, fa, fb, ok, count = first_brackets(grid, q, values, chunk=chunk)
     # Roots of the cubic interpolant of the grid values first (cheap), then a Newton step on the
     # forward model and a verification with it (two engine calls for all rows together).
     from scipy.interpolate import CubicSpline

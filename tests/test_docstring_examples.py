@@ -11,6 +11,11 @@ import pytest
 MODULES = [
     "filmoptic.units",
     "filmoptic.colorimetry",
+    "filmoptic.roots",
+    "filmoptic.readings",
+    "filmoptic.solve",
+    "filmoptic.choose",
+    "filmoptic.rate",
     "filmoptic.plots.chart",
 ]
 

@@ -17,18 +17,15 @@ from hypothesis import given, settings, strategies as st
 
 from conftest import assert_user_error
 from filmoptic.errors import FilmopticError
+from filmoptic.readings import band_weights, parse_reading
+from filmoptic.roots import find_minima, find_roots, interval_around
 from filmoptic.solve import (
     ColourTarget,
     Reading,
     Target,
-    band_weights,
     evaluate_condition,
-    find_minima,
-    find_roots,
     grid_step_nm,
-    interval_around,
     lab_from_hex,
-    parse_reading,
     parse_uncertainty,
     solve_thickness,
 )
@@ -451,16 +448,6 @@ def test_least_squares_interval_is_delta_chi2_of_one():
     assert best.low_nm < best.thickness_nm < best.high_nm
     assert chi2(best.low_nm) == pytest.approx(c_min + 1, abs=1e-6)
     assert chi2(best.high_nm) == pytest.approx(c_min + 1, abs=1e-6)
-
-
-@pytest.mark.parametrize("name", ["filmoptic.solve", "filmoptic.rate", "filmoptic.choose"])
-def test_docstring_examples(name):
-    import doctest
-    import importlib
-
-    module = importlib.import_module(name)
-    failures, attempted = doctest.testmod(module, optionflags=doctest.NORMALIZE_WHITESPACE | doctest.ELLIPSIS)
-    assert attempted > 0 and failures == 0
 
 
 def test_no_transmission_companions_on_an_opaque_substrate(run_cli):

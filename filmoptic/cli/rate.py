@@ -7,6 +7,11 @@ import click
 from filmoptic.cli._common import emit_json, json_option, print_table, user_errors
 
 
+#: Below this χ² probability the runs are said to scatter more than their uncertainties allow
+#: (the usual 5 % significance level; common practice).
+CHI2_WARNING_PROBABILITY = 0.05
+
+
 def _fmt_time(seconds: float) -> str:
     minutes, secs = divmod(seconds, 60.0)
     return f"{seconds:.0f} s ({int(minutes)} min {secs:.0f} s)" if seconds >= 60 else f"{seconds:.1f} s"
@@ -20,9 +25,11 @@ def _pm(sigma, fmt: str) -> str:
 @click.option(
     "--run", "runs", multiple=True, required=True, metavar="DURATION:THICKNESS",
     help="A calibration run (repeatable): its deposition time (300s, 5min, 1h, 1h30min) and the "
-         "thickness it gave: a length (21.8nm), 'monitor=LENGTH' for a crystal-monitor reading "
-         "(needs --tooling), or a 'filmoptic solve --json' output file (its first solution's "
-         "thickness_nm, with half the low_nm..high_nm interval as the uncertainty).",
+         "thickness it gave: a length (21.8nm), with its standard uncertainty when known "
+         "(21.8nm+-0.4nm, 21.8nm±0.4nm or 21.8nm+-2%); 'monitor=LENGTH' for a crystal-monitor "
+         "reading (needs --tooling; the same +- accepted); or a 'filmoptic solve --json' output file "
+         "(its first solution's thickness_nm, with half the low_nm..high_nm interval as the "
+         "uncertainty). Give an uncertainty for every run or for none.",
 )
 @click.option("--target", metavar="THICKNESS", help="Thickness wanted from the next run, e.g. 15nm.")
 @click.option(
@@ -45,20 +52,28 @@ def rate(runs, target, tooling, through_origin, as_json):
 
     where the offset (usually negative) is what the start-up of the source costs; its dead time is
     -offset/rate. Two or more runs fit both by least squares; one run fixes the rate through the
-    origin. Uncertainties are one standard deviation: from the runs' own uncertainties when every
-    run has one (solve files), otherwise from the scatter about the line (three runs or more).
+    origin.
 
-    Example:
+    Uncertainties are one standard deviation. When every run's thickness carries one (written
+    21.8nm+-0.4nm, or from a solve file made with --uncertainty), the fit is weighted by 1/σ² and
+    the runs' uncertainties are carried into the rate, the offset and the time for --target,
+    including the correlation between rate and offset; this works with two runs too. With three
+    or more such runs, χ² says whether the runs scatter more than their uncertainties allow.
+    Without uncertainties they come from the scatter about the line (three runs or more; two runs
+    fix the line exactly and give none).
+
+    Examples:
 
     \b
         filmoptic rate --run 4min:9.1nm --run 10min:21.8nm --target 15nm
+        filmoptic rate --run 4min:9.1nm+-0.3nm --run 10min:21.8nm+-0.4nm --target 15nm
 
-    A thickness can come straight from a solve result:
+    A thickness can come straight from a solve result, with its interval as the uncertainty:
 
     \b
         filmoptic solve "Ti ? / glass 4mm" --reading 318/1045 --source A \\
-            --json > run2.json
-        filmoptic rate --run 4min:9.1nm --run 10min:run2.json --target 15nm
+            --uncertainty 2% --json > run2.json
+        filmoptic rate --run 4min:run2.json --run 10min:21.8nm+-0.4nm --target 15nm
 
     The rate drifts with target wear, pressure and power; check it regularly.
     """
@@ -87,10 +102,20 @@ def rate(runs, target, tooling, through_origin, as_json):
     if fit.through_origin:
         click.echo("Offset:  0 (fitted through the origin)")
     else:
-        dead = f" (dead time {fit.dead_time_s:.3g} s)" if fit.offset_nm < 0 else ""
+        dead = f" (dead time {fit.dead_time_s:.3g}{_pm(fit.dead_time_sigma_s, '.2g')} s)" if fit.offset_nm < 0 else ""
         click.echo(f"Offset:  {fit.offset_nm:.3g}{_pm(fit.offset_sigma_nm, '.2g')} nm{dead}")
     if fit.rate_sigma_nm_per_s is None:
-        click.echo("Uncertainty: not available (the runs determine the line exactly; add a run).")
+        click.echo("Uncertainty: not available (the runs determine the line exactly); add a run, or give "
+                   "each run's thickness uncertainty (10min:21.8nm+-0.4nm).")
+    elif fit.weighted:
+        click.echo("Uncertainties: the runs' thickness uncertainties, propagated (weighted fit).")
+        if fit.chi2_probability is not None:
+            dof = fit.degrees_of_freedom
+            click.echo(f"Fit check: χ² = {fit.chi2:.3g} for {dof} degree{'s' if dof != 1 else ''} of freedom "
+                       f"(probability {fit.chi2_probability:.2g}).")
+            if fit.chi2_probability < CHI2_WARNING_PROBABILITY:
+                click.echo("  The runs scatter more than their uncertainties allow: the uncertainties may be "
+                           "understated, or the rate changed between runs. Treat the error bars with care.")
     if fit.time_s is not None:
         click.echo(
             f"Time for {fit.target_nm:g} nm: {_fmt_time(fit.time_s)}"

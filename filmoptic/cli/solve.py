@@ -97,9 +97,8 @@ def build_conditions(opts: dict, need_value: bool = True) -> list:
     column of readings, whose values come from a file).
     """
     from filmoptic.errors import FilmopticError
-    from filmoptic.solve import (
-        ColourTarget, Reading, Target, lab_from_hex, parse_lab, parse_reading, parse_uncertainty,
-    )
+    from filmoptic.readings import band_weights, parse_reading
+    from filmoptic.solve import ColourTarget, Reading, Target, lab_from_hex, parse_lab, parse_uncertainty
     from filmoptic.units import parse_fraction
 
     u_text = opts.get("uncertainty")
@@ -132,8 +131,6 @@ def build_conditions(opts: dict, need_value: bool = True) -> list:
         conditions.append(ColourTarget(lab_from_hex(text, illuminant), appearance, side, unc(None, True),
                                        illuminant, text))
     if opts.get("reading") is not None or not need_value:
-        from filmoptic.solve import band_weights
-
         # Validate the source and detector now so that a typo is reported before any work.
         band_weights(opts.get("source", "D65"), opts.get("detector", "photopic"))
         v = parse_reading(opts["reading"]) if opts.get("reading") is not None else 0.0
@@ -231,7 +228,7 @@ def _read_column(path: Path, column: str | None):
     import csv
 
     from filmoptic.errors import DataFileError, FilmopticError
-    from filmoptic.solve import parse_reading
+    from filmoptic.readings import parse_reading
 
     try:
         with open(path, newline="", encoding="utf-8-sig") as fh:

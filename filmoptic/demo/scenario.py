@@ -36,7 +36,9 @@ LUX_COATED = 318.0          # lux behind the coated door glass, halogen desk lam
 LUX_OPEN = 1045.0           # lux with nothing in the beam, same lamp and distance
 LUX_UNCERTAINTY = 0.02      # 2 % of the ratio: the meter's stated repeatability
 LUX_SOURCE = "A"
-CALIBRATION_RUNS = (("4min", "9.1nm"), ("10min", "21.8nm"))   # (duration, thickness) of earlier runs
+# (duration, thickness ± its standard uncertainty) of earlier runs; invented, like the ± (say, a
+# stylus step measured a few times on each test piece).
+CALIBRATION_RUNS = (("4min", "9.1nm+-0.3nm"), ("10min", "21.8nm+-0.4nm"))
 QCM_TOOLING_FACTOR = None   # the studio has no crystal monitor
 
 # Job 3b: synthetic transmittance of an oxide test piece (made by the demo, with noise).

@@ -16,6 +16,14 @@ def _pct(value) -> str:
     return "–" if value is None else f"{100 * value:.1f} %"
 
 
+def _times(value, factor):
+    return None if value is None else value * factor
+
+
+def _cell(value, fmt) -> str:
+    return "" if value is None else format(value, fmt)
+
+
 def run(outdir: pathlib.Path, say) -> None:
     """Run the thickness part of the demo, writing its tables and a plot into ``outdir``."""
     import numpy as np
@@ -23,7 +31,8 @@ def run(outdir: pathlib.Path, say) -> None:
     from filmoptic.choose import compare_materials
     from filmoptic.demo import scenario as sc
     from filmoptic.rate import fit_rate, parse_run
-    from filmoptic.solve import Reading, Target, parse_reading, solve_thickness
+    from filmoptic.readings import parse_reading
+    from filmoptic.solve import Reading, Target, solve_thickness
 
     outdir = pathlib.Path(outdir)
 
@@ -91,14 +100,23 @@ def run(outdir: pathlib.Path, say) -> None:
     fit = fit_rate(runs, target_nm=design.thickness_nm, tooling_factor=sc.QCM_TOOLING_FACTOR)
     say("")
     say("Calibration runs: " + ", ".join(f"{d} → {t}" for d, t in sc.CALIBRATION_RUNS))
-    say(f"  rate {fit.rate_nm_per_s * 60:.3f} nm/min, start-up offset {fit.offset_nm:.2f} nm "
-        f"(two runs fix the line exactly; a third would give its uncertainty)")
+
+    def pm(value, sigma, fmt):
+        return format(value, fmt) + ("" if sigma is None else f" ± {format(sigma, fmt)}")
+
+    say(f"  rate {pm(fit.rate_nm_per_s * 60, _times(fit.rate_sigma_nm_per_s, 60), '.3f')} nm/min, "
+        f"start-up offset {pm(fit.offset_nm, fit.offset_sigma_nm, '.2f')} nm")
+    if fit.weighted:
+        say("  (two runs fix the line; the ± carries the runs' thickness uncertainties into it, "
+            "with the correlation of rate and offset)")
     minutes, seconds = divmod(fit.time_s, 60)
     say(f"  next run for {design.thickness_nm:.2f} nm of {sc.NEXT_RUN_MATERIAL}: "
-        f"{fit.time_s:.0f} s ({int(minutes)} min {seconds:.0f} s)")
+        f"{pm(fit.time_s, fit.time_sigma_s, '.0f')} s ({int(minutes)} min {seconds:.0f} s)")
     write_csv(outdir / "thickness_next_run.csv",
-               ["rate_nm_per_s", "offset_nm", "target_nm", "time_s"],
-               [[f"{fit.rate_nm_per_s:.6f}", f"{fit.offset_nm:.4f}", f"{design.thickness_nm:.3f}",
-                 f"{fit.time_s:.1f}"]])
+               ["rate_nm_per_s", "rate_sigma_nm_per_s", "offset_nm", "offset_sigma_nm", "target_nm",
+                "time_s", "time_sigma_s"],
+               [[f"{fit.rate_nm_per_s:.6f}", _cell(fit.rate_sigma_nm_per_s, ".6f"), f"{fit.offset_nm:.4f}",
+                 _cell(fit.offset_sigma_nm, ".4f"), f"{design.thickness_nm:.3f}", f"{fit.time_s:.1f}",
+                 _cell(fit.time_sigma_s, ".1f")]])
     say("  → thickness_next_run.csv")
     say("  Rates drift with target wear, pressure and power: check with a test piece before the real part.")
