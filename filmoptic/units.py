@@ -37,6 +37,10 @@ _DURATION_UNITS_S = {
 }
 # Guards against absurd input (a grid that would not fit in memory is a typo, not a request).
 MAX_GRID_POINTS = 2_000_000
+# A deposition or measurement longer than this (about 4 months) is a typo, not a request.
+MAX_DURATION_S = 1e7
+# Units a wavelength may carry in a grid or list (the bare number means nm).
+_WAVELENGTH_UNIT_RE = re.compile(r"^(.*?)\s*(nm|um|µm|μm)$")
 
 
 def parse_number(text: str, what: str = "number") -> float:
@@ -49,6 +53,12 @@ def parse_number(text: str, what: str = "number") -> float:
     """
     s = str(text).strip()
     if not re.fullmatch(_NUMBER, s):
+        if re.fullmatch(r"[+-]?\d+,\d+", s):
+            # A decimal comma (common on European instruments and keyboards).
+            raise FilmopticError(
+                f"{what}: expected a number, got {text!r}; write the decimal point as '.', "
+                f"e.g. {s.replace(',', '.')!r}"
+            )
         raise FilmopticError(f"{what}: expected a number, got {text!r}")
     value = float(s)
     if not math.isfinite(value):
@@ -111,15 +121,33 @@ def parse_wavelengths_nm(text: str, what: str = "--wl") -> np.ndarray:
         parts = s.split(":")
         if len(parts) != 3:
             raise FilmopticError(f"{what}: write a grid as START:STOP:STEP in nm, got {text!r}")
-        start, stop, step = (parse_number(p, what) for p in parts)
+        start, stop, step = (_wavelength_nm(p, what, text) for p in parts)
         values = _grid(start, stop, step, what)
     else:
-        values = np.array([parse_number(p, what) for p in s.split(",")], dtype=float)
+        values = np.array([_wavelength_nm(p, what, text) for p in s.split(",")], dtype=float)
     if np.any(values <= 0):
         raise FilmopticError(f"{what}: wavelengths must be positive (nm), got {text!r}")
     if np.any(values > 1e6):
         raise FilmopticError(f"{what}: {text!r} is beyond 1 mm; wavelengths are in nm")
     return values
+
+
+def _wavelength_nm(part: str, what: str, text: str) -> float:
+    """One number of a wavelength grid or list, in nm; ``550nm`` and ``0.55um`` are accepted."""
+    part = part.strip()
+    scale = 1.0
+    m = _WAVELENGTH_UNIT_RE.match(part)
+    if m:
+        part, scale = m.group(1), LENGTH_UNITS_NM[m.group(2)]
+    try:
+        return parse_number(part, what) * scale
+    except FilmopticError as exc:
+        if "decimal point" in str(exc):
+            raise
+        raise FilmopticError(
+            f"{what}: cannot read {text!r} as wavelengths; write START:STOP:STEP in nm "
+            "(e.g. 380:780:5) or a comma list (e.g. 532,633)"
+        ) from None
 
 
 def parse_range_nm(text: str, what: str = "--range", need_step: bool = False) -> tuple:
@@ -161,8 +189,11 @@ def parse_fraction(text, what: str = "value", lo: float = 0.0, hi: float = 1.0) 
     value = parse_number(s, what) * scale
     if not lo <= value <= hi:
         shown = f"{value * 100:g} %" if scale != 1 else f"{value:g}"
+        # "30" for 30 % is the commonest slip: the percent sign was left out.
+        hint = f"; did you mean {value:g}%?" if scale == 1 and lo <= value / 100 <= hi else ""
         raise FilmopticError(
-            f"{what} must lie between {lo:g} and {hi:g} (or {lo * 100:g}%–{hi * 100:g}%), got {shown}"
+            f"{what} must lie between {lo:g} and {hi:g} (or {lo * 100:g}%–{hi * 100:g}%), "
+            f"got {shown}{hint}"
         )
     return value
 
@@ -191,6 +222,8 @@ def parse_duration_s(text: str, what: str = "duration") -> float:
             value += float(number) * _DURATION_UNITS_S[unit]
     if not math.isfinite(value) or value <= 0:
         raise FilmopticError(f"{what} must be positive, got {text!r}")
+    if value > MAX_DURATION_S:
+        raise FilmopticError(f"{what} {text!r} is absurdly long (over {MAX_DURATION_S / 86400:.0f} days)")
     return value
 
 
@@ -203,13 +236,18 @@ def parse_angles_deg(text: str, what: str = "--angles") -> np.ndarray:
     array([ 0., 15., 30., 45., 60.])
     """
     s = str(text).strip()
+
+    def degrees(part):
+        # "45°" and "45deg" are how angles are written on drawings; the unit is degrees anyway.
+        return parse_number(re.sub(r"\s*(°|deg|degrees?)$", "", part.strip(), flags=re.IGNORECASE), what)
+
     if ":" in s:
         parts = s.split(":")
         if len(parts) != 3:
             raise FilmopticError(f"{what}: write angles as START:STOP:STEP in degrees, got {text!r}")
-        values = _grid(*(parse_number(p, what) for p in parts), what)
+        values = _grid(*(degrees(p) for p in parts), what)
     else:
-        values = np.array([parse_number(p, what) for p in s.split(",")], dtype=float)
+        values = np.array([degrees(p) for p in s.split(",")], dtype=float)
     if np.any(values < 0) or np.any(values >= 90):
         raise FilmopticError(f"{what}: angles of incidence must lie in [0, 90) degrees, got {text!r}")
     return values

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import importlib
 import os
+import re
 import sys
 
 import click
@@ -35,8 +36,119 @@ CAUTION = (
 )
 
 
+# Options that name files the command writes. An output never replaces one of the command's inputs.
+OUTPUT_OPTIONS = ("--csv", "--plot", "--swatch", "--chart", "--out")
+_FILE_IN_TEXT = re.compile(r"file:\s*([^\s,()\[\]]+)", re.IGNORECASE)
+
+
+def _option_table(command):
+    """Map every spelling of the command's options (``--wl``, ``--through-origin``) to the option."""
+    return {
+        opt: param
+        for param in command.params if isinstance(param, click.Option)
+        for opt in (*param.opts, *param.secondary_opts)
+    }
+
+
+def _input_candidates(text):
+    """Paths a command-line value may name as an input: the value itself and any ``file:PATH``."""
+    yield text
+    for match in _FILE_IN_TEXT.finditer(text):
+        yield match.group(1)
+
+
+def _same_file(a, b) -> bool:
+    try:
+        return os.path.samefile(a, b)
+    except (OSError, ValueError):
+        return False
+
+
+def check_arguments(command, args) -> None:
+    """Refuse what click would let through silently: an option given twice (the first value
+    would be dropped), both sides of an on/off switch, an empty output name, and an output
+    file that is one of the command's own inputs (or another output)."""
+    if "--help" in args or "-h" in args:
+        return
+    table = _option_table(command)
+    seen = {}          # option name -> how it was written
+    outputs = []       # (option, path)
+    inputs = []        # every other value on the line
+    i = 0
+    while i < len(args):
+        token = args[i]
+        if token == "--":
+            inputs.extend(args[i + 1:])
+            break
+        name, eq, value = token.partition("=") if token.startswith("--") else (token, "", "")
+        if name not in table:
+            inputs.append(token)
+            i += 1
+            continue
+        param = table[name]
+        takes_value = not param.is_flag and not param.count
+        if takes_value and not eq:
+            value = args[i + 1] if i + 1 < len(args) else None
+            i += 1
+        i += 1
+        if param.multiple:
+            if takes_value and value is not None:
+                if not value.strip():
+                    raise click.UsageError(f"{name}: the value is empty")
+                inputs.append(value)
+            continue
+        if param.name in seen:
+            first = seen[param.name]
+            if takes_value:
+                raise click.UsageError(
+                    f"{name} is given twice ({first} and {name} {value}); give it once"
+                )
+            if first.split()[0] != name:
+                raise click.UsageError(f"{first} and {name} contradict each other; give one of them")
+        seen[param.name] = f"{name} {value}" if takes_value else name
+        if not takes_value or value is None:
+            continue
+        if not value.strip():
+            # An empty value is an unset shell variable or a stray quote, never a request
+            # (an empty path would even mean the current folder).
+            what = "the file name" if name in OUTPUT_OPTIONS else "the value"
+            raise click.UsageError(f"{name}: {what} is empty")
+        if name in OUTPUT_OPTIONS:
+            outputs.append((name, value))
+        else:
+            inputs.append(value)
+    for index, (option, path) in enumerate(outputs):
+        if not os.path.exists(path):
+            continue
+        for other_option, other in outputs[:index]:
+            if _same_file(path, other):
+                raise click.UsageError(
+                    f"{other_option} and {option} name the same file {path}; give each its own"
+                )
+        for text in inputs:
+            for candidate in _input_candidates(text):
+                candidate = os.path.expanduser(candidate)
+                if os.path.isfile(candidate) and _same_file(path, candidate):
+                    raise click.UsageError(
+                        f"{option} {path} is an input of this command (input files are never "
+                        "written): choose another file name"
+                    )
+
+
 class LazyGroup(click.Group):
     """A click group whose sub-commands are imported on first use."""
+
+    def resolve_command(self, ctx, args):
+        if args and args[0] not in COMMANDS and not args[0].startswith("-"):
+            import difflib
+
+            close = difflib.get_close_matches(args[0].lower(), list(COMMANDS), n=1, cutoff=0.6)
+            hint = f"; did you mean '{close[0]}'?" if close else f"; commands: {', '.join(COMMANDS)}"
+            raise click.UsageError(f"no command '{args[0]}'{hint}")
+        name, command, rest = super().resolve_command(ctx, args)
+        if command is not None:
+            check_arguments(command, list(rest))
+        return name, command, rest
 
     def list_commands(self, ctx):
         return list(COMMANDS)
@@ -95,8 +207,18 @@ def main(argv=None) -> int:
     except (click.exceptions.Abort, KeyboardInterrupt):
         click.echo("filmoptic: aborted", err=True)
         return 130
+    except click.exceptions.NoArgsIsHelpError as exc:
+        # 'filmoptic' alone: show the overview as --help does, not squeezed into an error line.
+        click.echo(exc.ctx.get_help() if exc.ctx is not None else exc.format_message())
+        return 0
     except click.ClickException as exc:
         click.echo(f"filmoptic: error: {_one_line(exc.format_message())}", err=True)
+        return 2
+    except OSError as exc:
+        # A file or folder the system refuses (permissions, a full disk, a folder where a file
+        # was expected): something the user can fix, so one line and exit code 2.
+        where = f"{exc.filename}: " if exc.filename else ""
+        click.echo(f"filmoptic: error: {where}{_one_line(exc.strerror or exc)}", err=True)
         return 2
     except Exception as exc:  # noqa: BLE001 - the one place that turns errors into exit codes
         from filmoptic.errors import FilmopticError

@@ -14,10 +14,11 @@ from pathlib import Path
 import click
 
 from filmoptic.errors import FilmopticError
-from filmoptic.files import write_atomically  # noqa: F401  (re-exported for the commands)
+from filmoptic.files import write_atomically as _write_atomically
 
 __all__ = [
     "user_errors",
+    "AngleType",
     "json_option",
     "ambient_option",
     "angle_option",
@@ -27,6 +28,7 @@ __all__ = [
     "print_table",
     "percent",
     "write_atomically",
+    "check_output_path",
     "save_plot",
     "progress",
     "echo_caution",
@@ -51,9 +53,37 @@ ambient_option = click.option(
     "--ambient", default="air", show_default=True, metavar="MATERIAL",
     help="Medium the light comes from (and that lies behind a thick substrate).",
 )
+
+
+class AngleType(click.ParamType):
+    """An angle of incidence in degrees, 0 to under 90; ``45``, ``45°`` and ``45deg`` all read."""
+
+    name = "DEG"
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, (int, float)):
+            return float(value)
+        import re
+
+        from filmoptic.units import parse_number
+
+        text = re.sub(r"\s*(°|deg|degrees?)$", "", str(value).strip(), flags=re.IGNORECASE)
+        what = f"--{param.name}" if param else "angle"
+        try:
+            angle = parse_number(text, what)
+        except FilmopticError as exc:
+            raise click.UsageError(f"{exc} (degrees from the normal, e.g. 45)") from None
+        if not 0 <= angle < 90:
+            raise click.UsageError(
+                f"{what}: the angle of incidence must lie in 0 to under 90 degrees from the normal, "
+                f"got {value}"
+            )
+        return angle
+
+
 angle_option = click.option(
-    "--angle", type=click.FloatRange(0, 89.999), default=0.0, show_default=True, metavar="DEG",
-    help="Angle of incidence in the ambient, degrees from the normal.",
+    "--angle", type=AngleType(), default=0.0, show_default=True, metavar="DEG",
+    help="Angle of incidence in the ambient, degrees from the normal (0 to under 90).",
 )
 extrapolate_option = click.option(
     "--extrapolate", is_flag=True,
@@ -74,7 +104,8 @@ class WavelengthsType(click.ParamType):
         try:
             return parse_wavelengths_nm(value, what=f"--{param.name}" if param else "wavelengths")
         except FilmopticError as exc:
-            self.fail(str(exc), param, ctx)
+            # The message already names the option; click's "Invalid value for" would repeat it.
+            raise click.UsageError(str(exc)) from None
 
 
 class FractionType(click.ParamType):
@@ -90,7 +121,7 @@ class FractionType(click.ParamType):
         try:
             return parse_fraction(value, what=f"--{param.name}" if param else "value")
         except FilmopticError as exc:
-            self.fail(str(exc), param, ctx)
+            raise click.UsageError(str(exc)) from None
 
 
 def to_jsonable(obj):
@@ -157,21 +188,53 @@ def print_table(headers, rows, title: str | None = None) -> None:
 PLOT_SUFFIXES = {".png", ".svg", ".pdf"}
 
 
+def check_output_path(path, what: str = "output file") -> Path:
+    """Check that an output file can be written whole: a name, not a folder, in an existing folder.
+
+    Raises :class:`FilmopticError` (one line) before any work is done, so that a typo in an output
+    name never costs a long computation or ends in a traceback.
+    """
+    if path is None or not str(path).strip():
+        raise FilmopticError(f"{what}: the file name is empty")
+    path = Path(path)
+    if path.is_dir():
+        raise FilmopticError(f"cannot write {what} {path}: it is a folder; name a file inside it")
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        raise FilmopticError(f"cannot write {path}: folder {path.parent} does not exist")
+    return path
+
+
+def write_atomically(path, write, mode: str = "w") -> Path:
+    """Write an output file whole (see :func:`filmoptic.files.write_atomically`), after
+    :func:`check_output_path`."""
+    path = check_output_path(path)
+    try:
+        return _write_atomically(path, write, mode)
+    except OSError as exc:
+        # Name the file the user asked for, not the temporary file beside it.
+        raise FilmopticError(f"cannot write {path}: {exc.strerror or exc}") from None
+
+
 def check_plot_path(path) -> Path:
     """Check that a plot file name ends in .png, .svg or .pdf and its folder exists."""
+    if path is None or not str(path).strip():
+        raise FilmopticError("plot file: the file name is empty")
     path = Path(path)
     if path.suffix.lower() not in PLOT_SUFFIXES:
         raise FilmopticError(f"plot file {path} must end in .png, .svg or .pdf")
-    if not (path.parent if str(path.parent) else Path(".")).is_dir():
-        raise FilmopticError(f"cannot write {path}: folder {path.parent} does not exist")
-    return path
+    return check_output_path(path, "plot file")
 
 
 def save_plot(fig, path) -> Path:
     """Save a matplotlib figure to ``path`` (format from the extension), atomically."""
     from filmoptic.plots import save_figure
 
-    return save_figure(fig, check_plot_path(path))
+    path = check_plot_path(path)
+    try:
+        return save_figure(fig, path)
+    except OSError as exc:
+        raise FilmopticError(f"cannot write {path}: {exc.strerror or exc}") from None
 
 
 @contextmanager

@@ -206,6 +206,15 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
         by_angle = (appearance(parsed, illuminant=illuminant, observer=obs, angle_deg=angle_list,
                                extrapolate=extrapolate) if angle_list is not None else None)
 
+    if swatch_path:
+        # Written before anything is printed, so that a failure leaves no half report on stdout.
+        from filmoptic.plots.swatch import swatch_figure
+
+        with user_errors():
+            fig = swatch_figure(result, stack_text=stack, ambient=ambient, angle_deg=angle,
+                                by_angle=by_angle, angles_deg=angle_list)
+            save_plot(fig, swatch_path)
+
     if as_json:
         payload = {
             "reflected": colour_json(result.reflected),
@@ -224,20 +233,16 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
             click.echo("")
             print_table(_angle_headers(by_angle.reflected_reverse is not None),
                         _angle_rows(angle_list, by_angle), title="Colour versus viewing angle")
+            if not by_angle.transmission_exits:
+                click.echo("T: light entering the substrate, which absorbs it (an opaque half-space); "
+                           "only the reflected colour is seen.")
         flagged = [result.reflected, result.reflected_reverse, result.transmitted]
         if by_angle is not None:
             flagged += [by_angle.reflected, by_angle.reflected_reverse, by_angle.transmitted]
         if any(c is not None and not np.all(c.in_gamut) for c in flagged):
             click.echo("* outside the sRGB gamut: shown with reduced chroma at the same lightness and hue.")
 
-    if swatch_path:
-        from filmoptic.plots.swatch import swatch_figure
-
-        with user_errors():
-            fig = swatch_figure(result, stack_text=stack, ambient=ambient, angle_deg=angle,
-                                by_angle=by_angle, angles_deg=angle_list)
-            save_plot(fig, swatch_path)
-        if not as_json:
-            click.echo(f"Swatch written to {swatch_path}")
+    if swatch_path and not as_json:
+        click.echo(f"Swatch written to {swatch_path}")
     if result.transmission_exits:
         caution_if_dark(result.luminous.T)

@@ -82,6 +82,24 @@ def _json_payload(result, spectra):
     }
 
 
+def _refuse_repeated_files(files) -> None:
+    """The same measurement given twice would count double in the fit and shrink its error bars."""
+    import os
+
+    for i, path in enumerate(files):
+        for earlier in files[:i]:
+            same = earlier == path
+            if not same:
+                try:
+                    same = os.path.samefile(earlier, path)
+                except OSError:
+                    same = False
+            if same:
+                raise click.UsageError(
+                    f"--measured {path} is given twice; each measured spectrum counts once"
+                )
+
+
 @click.command()
 @click.argument("model")
 @click.option(
@@ -97,7 +115,8 @@ def _json_payload(result, spectra):
 )
 @angle_option
 @click.option(
-    "--polarization", type=click.Choice(["unpolarized", "s", "p"]), default="unpolarized",
+    "--polarization", "--pol", "polarization",
+    type=click.Choice(["unpolarized", "s", "p"], case_sensitive=False), default="unpolarized",
     show_default=True, help="Polarisation of the measuring beam.",
 )
 @ambient_option
@@ -166,6 +185,7 @@ def fit(model, files, quantities, angle, polarization, ambient, sigma, fit_range
                 f"--quantity: give it once for all files or once per --measured ({len(files)}), "
                 f"not {len(quantities)} times"
             )
+        _refuse_repeated_files(files)
         per_file = [None] * len(files)
         if quantities:
             per_file = [q.upper() for q in (quantities * len(files) if len(quantities) == 1 else quantities)]

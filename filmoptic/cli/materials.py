@@ -115,7 +115,8 @@ def _selected(name):
     from filmoptic.materials.expression import _NAME_RE
 
     text = name.strip()
-    if _NAME_RE.match(text):
+    # "file:PATH" also matches NAME:DATASET's pattern; it is a user's table, not a library name.
+    if _NAME_RE.match(text) and text[:5].lower() != "file:":
         base, _, dataset = text.partition(":")
         if dataset.strip():
             info = find_dataset(base, dataset)

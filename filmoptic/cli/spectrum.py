@@ -8,6 +8,7 @@ from filmoptic.cli._common import (
     WavelengthsType,
     ambient_option,
     angle_option,
+    check_output_path,
     check_plot_path,
     echo_caution,
     emit_json,
@@ -38,7 +39,7 @@ _BLOCKING_T = 0.01
 )
 @angle_option
 @click.option(
-    "--pol", "polarization", type=click.Choice(["s", "p", "unpolarized"], case_sensitive=False),
+    "--pol", "--polarization", "polarization", type=click.Choice(["s", "p", "unpolarized"], case_sensitive=False),
     default="unpolarized", show_default=True,
     help="Polarisation of the incident light; unpolarized is the mean of s and p.",
 )
@@ -88,8 +89,10 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
     from filmoptic.stack import parse_stack
 
     with user_errors():
-        if plot_path:
+        if plot_path is not None:
             check_plot_path(plot_path)
+        if csv_path is not None:
+            check_output_path(csv_path, "--csv file")
         parsed = parse_stack(stack, ambient=ambient)
         if parsed.parameters:
             names = ", ".join(p.name for p in parsed.parameters)
@@ -99,10 +102,25 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
             )
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always", UserWarning)
+            opaque = _opaque_half_space(parsed, wl, extrapolate)
+            if reverse and opaque:
+                raise click.UsageError(
+                    f"--reverse: light would have to arrive through {parsed.substrate.text}, an "
+                    "absorbing half-space rather than a transparent medium; give the substrate a "
+                    "thickness (e.g. '"
+                    f"{parsed.substrate.text} 0.5mm') to light the part from behind"
+                )
             result = _compute_with_progress(compute, parsed, wl, angle, polarization,
                                             reverse, extrapolate)
         for message in dict.fromkeys(str(w.message) for w in caught):
             click.echo(f"filmoptic: warning: {' '.join(message.split())}", err=True)
+        if opaque:
+            click.echo(
+                f"filmoptic: note: the substrate {parsed.substrate.text} is an absorbing half-space: "
+                "T is the light that enters it and is absorbed there, nothing comes out behind it "
+                f"(write a thickness, e.g. '{parsed.substrate.text} 1mm', for a slab)",
+                err=True,
+            )
 
         if csv_path:
             write_atomically(csv_path, lambda fh: _write_csv(fh, result))
@@ -142,6 +160,20 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
         click.echo(f"wrote {plot_path}")
 
 
+def _opaque_half_space(parsed, wavelengths, extrapolate) -> bool:
+    """True when the substrate is a half-space that absorbs somewhere in the grid: light entering
+    it never comes out (the colour commands treat it the same way)."""
+    import numpy as np
+
+    from filmoptic.colorimetry import OPAQUE_K
+
+    substrate = parsed.substrate
+    if substrate.thickness_nm is not None:
+        return False
+    k = np.imag(substrate.material.nk(wavelengths, extrapolate=extrapolate))
+    return bool(np.max(k) > OPAQUE_K)
+
+
 def _title(parsed, angle, polarization, reverse) -> str:
     side = "from the substrate side" if reverse else "from the coated side"
     return (f"Stack: {parsed.text}  (ambient {parsed.ambient}; light {side}, "
@@ -158,6 +190,12 @@ def _compute_with_progress(compute, parsed, wavelengths, angle, polarization, re
     size = wavelengths.size * (len(parsed.layers) + 1)
     if size < _PROGRESS_FROM:
         return compute(parsed, wavelengths, **kwargs)
+    # Check every table against the whole grid first, so that a range error names the far end
+    # of the request rather than the end of whichever block happened to fail.
+    ends = np.array([wavelengths.min(), wavelengths.max()])
+    materials = [layer.material for layer in (*parsed.layers, parsed.substrate)]
+    for material in dict.fromkeys([parsed.ambient, *materials, parsed.exit_medium]):
+        material.nk(ends, extrapolate=extrapolate)
     blocks = np.array_split(wavelengths, int(np.ceil(size / (_PROGRESS_FROM / 10))))
     parts = []
     with progress(len(blocks), "computing") as advance:

@@ -91,6 +91,13 @@ def sweep(stack, range_text, illuminant, observer, angle, ambient, chart_path, e
         else:
             result = colour_sweep(parsed, thickness, **options)
 
+    if chart_path:
+        # Written before anything is printed, so that a failure leaves no half report on stdout.
+        from filmoptic.plots.chart import sweep_chart
+
+        with user_errors():
+            save_plot(sweep_chart(result), chart_path)
+
     if as_json:
         emit_json({
             "thickness_nm": result.thickness_nm,
@@ -122,12 +129,7 @@ def sweep(stack, range_text, illuminant, observer, angle, ambient, chart_path, e
         if not (np.all(result.reflected.in_gamut) and np.all(result.transmitted.in_gamut)):
             click.echo("* outside the sRGB gamut: shown with reduced chroma at the same lightness and hue.")
 
-    if chart_path:
-        from filmoptic.plots.chart import sweep_chart
-
-        with user_errors():
-            save_plot(sweep_chart(result), chart_path)
-        if not as_json:
-            click.echo(f"Chart written to {chart_path}")
+    if chart_path and not as_json:
+        click.echo(f"Chart written to {chart_path}")
     if result.transmission_exits:
         caution_if_dark(result.luminous_T)

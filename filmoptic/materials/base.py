@@ -199,6 +199,10 @@ class Material:
     def __str__(self) -> str:
         return self.name
 
+    def _index_at(self, wavelength_nm: float) -> float:
+        """n at one wavelength inside the range (for suggestions in messages)."""
+        return float(np.real(self._nk(np.asarray([float(wavelength_nm)])))[0])
+
     # -- for subclasses -------------------------------------------------------------------
     def _nk(self, wavelength_nm: np.ndarray) -> np.ndarray:  # pragma: no cover - abstract
         raise NotImplementedError
@@ -214,10 +218,16 @@ class Material:
             bad = wl[outside]
             worst = bad.min() if bad.min() < lo else bad.max()
             if not extrapolate:
+                # A gas or liquid around the part barely disperses: a constant index is the
+                # honest fix, better than holding every table's end values.
+                constant = ""
+                if self.kind == "ambient":
+                    edge = lo if worst < lo else hi
+                    constant = f", or give it as a constant index (--ambient n={self._index_at(edge):.5g})"
                 raise WavelengthRangeError(
                     f"{self.label}: {worst:g} nm is outside its data range "
                     f"{format_range_nm(self.wavelength_range_nm)}; choose wavelengths inside it, "
-                    "pick another dataset, or allow holding the end values (--extrapolate)"
+                    f"pick another dataset, or allow holding the end values (--extrapolate){constant}"
                 )
             warnings.warn(
                 f"{self.label}: data cover {format_range_nm(self.wavelength_range_nm)}; "

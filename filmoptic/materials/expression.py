@@ -112,6 +112,11 @@ def _parse_fraction(text: str):
 
 def _parse_constant(text: str) -> Material:
     m = _CONSTANT_RE.match(text)
+    if not m and re.fullmatch(r"n\s*=\s*\d+,\d+", text.strip(), re.IGNORECASE):
+        raise StackSyntaxError(
+            f"cannot read the index {text!r}: write the decimal point as '.', e.g. "
+            f"{text.strip().replace(',', '.')!r}"
+        )
     if not m:
         raise StackSyntaxError(
             f"cannot read the index {text!r}: write it like n=1.46 or n=2.54+3.43j (k >= 0)"

@@ -22,6 +22,10 @@ from .base import Material, check_values, coefficient_text
 
 __all__ = ["Constant", "Cauchy", "Sellmeier", "Drude", "Lorentz", "HC_EV_NM", "photon_energy_ev"]
 
+#: Largest n or k a constant index may have: far-infrared metals reach a few hundred; anything
+#: beyond is a typo and would overflow the transfer matrices.
+MAX_INDEX = 1e4
+
 #: Planck constant times speed of light, eV·nm (CODATA 2018 exact values of h, c and e).
 HC_EV_NM = 1239.841984
 
@@ -133,6 +137,11 @@ class Constant(_Model):
         n, k = self._coefficients
         if not is_free(n) and n <= 0:
             raise FilmopticError(f"a refractive index must be positive, got n={n:g}")
+        for name, value in (("n", n), ("k", k)):
+            if not is_free(value) and value > MAX_INDEX:
+                raise FilmopticError(
+                    f"{name}={value:g} is not a plausible optical constant (at most {MAX_INDEX:g})"
+                )
         if not is_free(k) and k < 0:
             raise FilmopticError(
                 f"k must be >= 0 (filmoptic writes N = n + i·k), got {k:g}; drop the minus sign"

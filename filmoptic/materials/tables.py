@@ -126,6 +126,9 @@ def _check_rows(wl, n, k, label):
         )
 
 
+_NOT_TEXT = "n,k file {path} is not a UTF-8 text file; save it as plain text with rows of wavelength_nm n k"
+
+
 def read_header(path) -> dict:
     """Read only the ``# key: value`` header of an nkdata file (fast, for listings)."""
     header = {}
@@ -142,8 +145,10 @@ def read_header(path) -> dict:
                     key = m.group(1).lower()
                     # A key may continue over several lines ("reference" often does).
                     header[key] = f"{header[key]} {m.group(2)}".strip() if key in header else m.group(2)
-    except (OSError, UnicodeDecodeError) as exc:
-        raise DataFileError(f"cannot read {path}: {exc}") from None
+    except UnicodeDecodeError:
+        raise DataFileError(_NOT_TEXT.format(path=path)) from None
+    except OSError as exc:
+        raise DataFileError(f"cannot read {path}: {exc.strerror or exc}") from None
     return header
 
 
@@ -163,8 +168,11 @@ def _parse_rows(path) -> np.ndarray:
                         continue
                     raise DataFileError(f"{path}, line {lineno}: expected numbers, got {stripped!r}") from None
                 if len(values) not in (2, 3):
+                    # "1,5" as a decimal comma splits into two columns.
+                    comma = "; write decimals with '.', not ','" if "," in stripped else ""
                     raise DataFileError(
-                        f"{path}, line {lineno}: expected 2 or 3 columns (wavelength_nm n [k]), got {len(values)}"
+                        f"{path}, line {lineno}: expected 2 or 3 columns (wavelength_nm n [k]), "
+                        f"got {len(values)}{comma}"
                     )
                 if rows and len(values) != len(rows[0]):
                     raise DataFileError(f"{path}, line {lineno}: every row needs the same number of columns")
@@ -173,8 +181,10 @@ def _parse_rows(path) -> np.ndarray:
         raise DataFileError(f"n,k file {path} does not exist") from None
     except IsADirectoryError:
         raise DataFileError(f"n,k file {path} is a folder, not a file") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise DataFileError(f"cannot read n,k file {path}: {exc}") from None
+    except UnicodeDecodeError:
+        raise DataFileError(_NOT_TEXT.format(path=path)) from None
+    except OSError as exc:
+        raise DataFileError(f"cannot read n,k file {path}: {exc.strerror or exc}") from None
     if not rows:
         raise DataFileError(f"n,k file {path} has no rows of wavelength_nm n k")
     table = np.array(rows, dtype=float)
