@@ -96,6 +96,7 @@ __all__ = [
     "appearance",
     "ColourSweep",
     "colour_sweep",
+    "sweep_bounds_nm",
     "transmission_exits",
 ]
 
@@ -205,6 +206,19 @@ class TabulatedSpectrum:
 _SEPARATORS = re.compile(r"[\s,;]+")
 
 
+# A number written with a decimal comma ('1,5'), which the column separators split in two.
+_DECIMAL_COMMA = re.compile(r"[-+]?\d+,\d+")
+
+
+def _decimal_comma_hint(line: str) -> str:
+    """'; '1,5' looks like a decimal comma …' when a comma sits between digits, else ''."""
+    m = _DECIMAL_COMMA.search(line)
+    if not m:
+        return ""
+    return (f"; {m.group()!r} looks like a decimal comma: write {m.group().replace(',', '.')!r} "
+            "(the decimal point is '.')")
+
+
 def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectrum:
     """Read a two-column text file: wavelength in nm, then a relative value.
 
@@ -271,7 +285,8 @@ def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectru
             ) from None
         if len(numbers) != 2:
             raise DataFileError(
-                f"{what} {name}, line {number}: expected 2 columns (wavelength nm, value), found {len(numbers)}"
+                f"{what} {name}, line {number}: expected 2 columns (wavelength nm, value), found "
+                f"{len(numbers)}{_decimal_comma_hint(line)}"
             )
         if not all(math.isfinite(v) for v in numbers):
             raise DataFileError(f"{what} {name}, line {number}: values must be finite numbers")
@@ -1112,9 +1127,37 @@ def _free_thickness_index(stack) -> int:
             )
         names = ", ".join(p.name for p in params)
         raise FilmopticError(
-            f"a sweep needs exactly one unknown, a layer thickness written '?'; this stack has {len(params)} ({names})"
+            f"a sweep needs exactly one unknown, a layer thickness written '?' or LOW..HIGH; this "
+            f"stack has {len(params)} ({names})"
         )
     return thickness[0]
+
+
+def sweep_bounds_nm(stack) -> tuple | None:
+    """The (low, high) nm written for a sweep's unknown thickness (``10..50nm``), or None for ``?``.
+
+    Examples
+    --------
+    >>> from filmoptic.stack import parse_stack
+    >>> sweep_bounds_nm(parse_stack("TiO2 10..50nm / Ti")), sweep_bounds_nm(parse_stack("TiO2 ? / Ti"))
+    ((10.0, 50.0), None)
+    """
+    free = stack.parameters[_free_thickness_index(stack)].free
+    return (float(free.low), float(free.high)) if free.bounded else None
+
+
+def _check_inside_bounds(stack, d) -> None:
+    bounds = sweep_bounds_nm(stack)
+    if bounds is None:
+        return
+    low, high = bounds
+    tol = 1e-9 * max(1.0, high)
+    if d.min() < low - tol or d.max() > high + tol:
+        layer = stack.parameters[_free_thickness_index(stack)]
+        raise FilmopticError(
+            f"the sweep {d.min():g}–{d.max():g} nm reaches outside {low:g}..{high:g} nm, the range "
+            f"written for {layer.name}; sweep inside it, or widen it in the stack"
+        )
 
 
 def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg=0.0, ambient=None,
@@ -1127,9 +1170,10 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
     Parameters
     ----------
     stack : filmoptic.stack.Stack or str
-        A stack with exactly one unknown, a thickness written ``?``.
+        A stack with exactly one unknown, a thickness written ``?`` or ``LOW..HIGH``.
     thickness_nm : array_like, shape (n,)
-        The thicknesses to evaluate, nm (>= 0).
+        The thicknesses to evaluate, nm (>= 0); inside ``LOW..HIGH`` when the stack bounds the
+        unknown (see :func:`sweep_bounds_nm`).
     illuminant, observer, angle_deg, ambient, wavelength_nm, extrapolate
         As for :func:`appearance` (one angle).
     progress : callable, optional
@@ -1159,6 +1203,7 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
         raise FilmopticError("the sweep has no thicknesses")
     if not np.all(np.isfinite(d)) or np.any(d < 0):
         raise FilmopticError("sweep thicknesses must be finite and not negative")
+    _check_inside_bounds(stack, d)
     angle = float(angle_deg)
     if not 0 <= angle < 90:
         raise FilmopticError("the angle of incidence must lie in [0, 90) degrees")

@@ -113,7 +113,9 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
     polarization : {"s", "p", "unpolarized"}, optional
         ``"unpolarized"`` averages the s and p results.
     reverse : bool, optional
-        Send the light in from the substrate side.
+        Send the light in from the substrate side: through a thick substrate's back face, or
+        through a half-space substrate that is practically transparent (k/n < 1e-6, the rule
+        for any incident medium); an absorbing half-space (a metal, silicon) is refused.
     thickness_nm : array_like, optional
         Shape ``(*batch, K)``: the K free thicknesses of the stack (in
         ``stack.thickness_parameters`` order) for each thickness set of the batch. The whole
@@ -163,6 +165,8 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
         indices.append(cache[key])
 
     if reverse:
+        if stack.substrate.thickness_nm is None:
+            _check_entry_through_substrate(stack.substrate, indices[-1], wl)
         indices = indices[::-1]
         table = table[::-1]
         incoherent = incoherent[::-1]
@@ -290,6 +294,11 @@ def _check_angles(angle_deg) -> np.ndarray:
 _TRANSPARENT_INCIDENT_K = 1e-6
 
 
+def _practically_transparent(N) -> bool:
+    """k/n below :data:`_TRANSPARENT_INCIDENT_K` at every wavelength (water, glass, air)."""
+    return bool(np.all(N.imag <= _TRANSPARENT_INCIDENT_K * N.real))
+
+
 def _incident_index(material, N0, angles) -> np.ndarray:
     """The incident medium's index, checked for a meaningful angle of incidence.
 
@@ -298,7 +307,7 @@ def _incident_index(material, N0, angles) -> np.ndarray:
     """
     if not np.any(angles > 0) or not np.any(N0.imag > 0):
         return N0
-    if np.all(N0.imag <= _TRANSPARENT_INCIDENT_K * N0.real):
+    if _practically_transparent(N0):
         return N0.real.astype(complex)
     _check_incidence(material, N0, angles)
     return N0
@@ -312,6 +321,24 @@ def _check_incidence(material, N0, angles) -> None:
             "absorbs (k > 0); an angle of incidence needs a transparent incident medium — use "
             "--angle 0 or another medium"
         )
+
+
+def _check_entry_through_substrate(substrate, N, wl) -> None:
+    """Light sent in from the back of a half-space substrate must have come through it.
+
+    A half-space has no back surface: lighting the part "from behind" means the light crossed an
+    unbounded stretch of the substrate, which only a practically transparent one (the same k/n
+    rule as for an incident medium) lets through. Through a metal or silicon nothing arrives.
+    """
+    if _practically_transparent(N):
+        return
+    text = getattr(substrate, "text", "") or getattr(substrate.material, "label", substrate.material)
+    worst = int(np.argmax(N.imag / N.real))
+    raise FilmopticError(
+        f"reverse: light would have to arrive through {text}, an absorbing half-space substrate "
+        f"(k = {N.imag[worst]:.2g} at {wl[worst]:g} nm); give it a thickness in mm "
+        f"(e.g. '{text} 0.5mm') to light the part from behind"
+    )
 
 
 def _media_of(stack):

@@ -411,17 +411,22 @@ class _Parser:
         try:
             return self._parse_material(text)
         except FilmopticError as exc:
+            separator = _separator_hint(item)
+            if separator:
+                raise StackSyntaxError(f"item {label} {item!r}: {separator}") from None
             raise type(exc)(f"item {label} {item!r}: {exc}") from None
 
     def _material_and_thickness(self, label: str, item: str):
         """(material, thickness_nm or Free or None, thick)."""
         m = _THICKNESS_RE.search(item)
         if m is None:
-            if len(_top_level_words(item)) > 1:
-                raise StackSyntaxError(
-                    f"item {label} {item!r}: cannot read {_top_level_words(item)[-1]!r} as a "
-                    "thickness; write e.g. '55nm', '1.2um', '3mm', '?' or '10..90nm'"
+            words = _top_level_words(item)
+            if len(words) > 1:
+                hint = _thickness_hint(item) or (
+                    f"cannot read {words[-1]!r} as a thickness; write e.g. '55nm', '1.2um', "
+                    "'3mm', '?' or '10..90nm'"
                 )
+                raise StackSyntaxError(f"item {label} {item!r}: {hint}")
             return self._material(label, item, item), None, False
         thickness_text = m.group("thickness").strip()
         material_text = item[: m.start()].strip()
@@ -440,6 +445,70 @@ class _Parser:
             )
         thickness, thick = _read_thickness(label, item, thickness_text)
         return self._material(label, item, material_text), thickness, thick
+
+
+# Units people write that the notation does not take, with their size in mm or nm.
+_FOREIGN_UNITS = {"cm": (10.0, "mm"), "m": (1000.0, "mm"), "dm": (100.0, "mm"),
+                  "Å": (0.1, "nm"), "A": (0.1, "nm"), "angstrom": (0.1, "nm"), "pm": (0.001, "nm")}
+_FOREIGN_UNIT_RE = re.compile(rf"(?:^|\s)(?P<number>{_NUM})\s*(?P<unit>cm|dm|m|Å|A|angstroms?|pm)$")
+# A decimal comma in a thickness: '12,5nm', '12,5 nm', '1,2um'.
+_DECIMAL_COMMA_RE = re.compile(rf"(?:^|\s)(?P<whole>\d+),(?P<fraction>\d+)\s*(?P<unit>{_UNIT})?(?=\s|$)")
+
+
+def _thickness_hint(item: str) -> str:
+    """What probably went wrong with a thickness that cannot be read, or ''."""
+    text = _outside_brackets(item).strip()
+    m = _DECIMAL_COMMA_RE.search(text)
+    if m:
+        number = f"{m.group('whole')}.{m.group('fraction')}"
+        return (f"'{m.group('whole')},{m.group('fraction')}' looks like a decimal comma; write "
+                f"'{number}{m.group('unit') or 'nm'}' (the decimal point is '.')")
+    separator = _separator_hint(item)
+    if separator:
+        return separator
+    m = _FOREIGN_UNIT_RE.search(text)
+    if m:
+        unit = m.group("unit")
+        unit = "angstrom" if unit.startswith("angstrom") else unit
+        factor, target = _FOREIGN_UNITS[unit]
+        value = float(m.group("number")) * factor
+        slab = " (a thick slab)" if target == "mm" else ""
+        return (f"{m.group('unit')!r} is not a unit here (nm, um or mm); "
+                f"{m.group('number')}{m.group('unit')} is '{value:.12g}{target}'{slab}")
+    return ""
+
+
+def _separator_hint(item: str) -> str:
+    """A ',', ';' or '|' between two items, which the notation separates with ' / '."""
+    text = _outside_brackets(item)
+    # A comma between digits is a decimal comma, not a separator.
+    mark = re.search(r"\||;|,(?!\d)|(?<!\d),", text)
+    if not mark:
+        return ""
+    before, after = item[:mark.start()].strip(), item[mark.end():].strip()
+    example = f"'{before} / {after}'" if before and after else "e.g. 'TiO2 60nm / glass 3mm'"
+    return f"items are separated by ' / ', not {mark.group()!r}: write {example}"
+
+
+def _outside_brackets(item: str) -> str:
+    """The item with anything inside (), [] and file paths blanked out (same length)."""
+    out, depth, i = [], 0, 0
+    while i < len(item):
+        if item[i:i + 5].lower() == "file:":
+            start = i
+            i += 5
+            while i < len(item) and not item[i].isspace() and not (depth and item[i] in ",)"):
+                i += 1
+            out.append(" " * (i - start))
+            continue
+        ch = item[i]
+        if ch in "([":
+            depth += 1
+        out.append(ch if depth == 0 else " ")
+        if ch in ")]":
+            depth = max(0, depth - 1)
+        i += 1
+    return "".join(out)
 
 
 def _top_level_words(item: str) -> list:

@@ -394,6 +394,29 @@ def test_bad_spectrum_files(tmp_path, content, fragment):
     assert "\n" not in message and fragment in message and str(path) in message
 
 
+# A decimal comma (common practice in much of Europe, and what spreadsheets there export) is
+# split by the column separators; the error says so and shows the number as meant.
+@pytest.mark.parametrize("content, fragments", [
+    ("380 1,5\n780 2,5\n", ["line 1", "found 3", "'1,5' looks like a decimal comma", "'1.5'"]),
+    ("380;1,5\n780;2\n", ["line 1", "found 3", "'1,5'", "decimal comma"]),
+    ("380 1\n390,5 2,25\n", ["line 2", "found 4", "'390,5'", "'390.5'"]),
+])
+def test_decimal_comma_gets_a_hint(tmp_path, content, fragments):
+    path = tmp_path / "lamp.txt"
+    path.write_text(content)
+    with pytest.raises(DataFileError) as info:
+        cm.read_spectrum_file(path, what="illuminant file")
+    message = str(info.value)
+    assert "\n" not in message
+    for fragment in fragments:
+        assert fragment in message, (fragment, message)
+    # Three plain columns are not a decimal comma.
+    path.write_text("380 1 2\n390 1 2\n")
+    with pytest.raises(DataFileError) as info:
+        cm.read_spectrum_file(path)
+    assert "looks like a decimal comma" not in str(info.value)
+
+
 def test_spectrum_file_forms(tmp_path):
     path = tmp_path / "resp.txt"
     path.write_text("# detector response\n\n780;0.5\n580;1.0\n380;0.0\n")  # long to short, semicolons

@@ -9,6 +9,7 @@ outer media are transparent.
 from __future__ import annotations
 
 import math
+import re
 import tracemalloc
 
 import numpy as np
@@ -167,10 +168,43 @@ def test_wavelength_outside_a_table_is_refused_unless_extrapolating():
 
 def test_an_angle_needs_a_transparent_incident_medium():
     with pytest.raises(FilmopticError, match="transparent"):
-        compute(parse_stack("TiO2 50nm / Ti"), WL, angle_deg=30.0, reverse=True)
+        compute(parse_stack("TiO2 50nm / Si 0.5mm", ambient="n=1.5+0.1j"), WL, angle_deg=30.0,
+                reverse=True)
     # At normal incidence the light may come from an absorbing medium (as in tmm).
-    result = compute(parse_stack("TiO2 50nm / Si"), [700.0, 900.0], reverse=True)
+    result = compute(parse_stack("TiO2 50nm / glass 1mm", ambient="n=1.5+0.1j"), [700.0, 900.0],
+                     reverse=True)
     assert np.all(np.isfinite(result.R))
+
+
+@pytest.mark.parametrize("substrate", ["Ti", "Si", "n=1.5+0.001j"])
+@pytest.mark.parametrize("angle", [0.0, 30.0])
+def test_light_cannot_arrive_through_an_absorbing_half_space(substrate, angle):
+    # A half-space substrate has no back face: light "from the substrate side" would have crossed
+    # an unbounded stretch of it, and through a metal or silicon nothing arrives (Beer–Lambert,
+    # common practice). One line, naming the substrate and the fix (a thickness in mm).
+    stack = parse_stack(f"TiO2 50nm / {substrate}")
+    with pytest.raises(FilmopticError, match=rf"through {re.escape(substrate)}, an absorbing half-space.*mm"):
+        compute(stack, WL, angle_deg=angle, reverse=True)
+    # As a thick slab it has a back face, and the light comes in from the ambient behind it.
+    result = compute(parse_stack(f"TiO2 50nm / {substrate} 0.5mm"), WL, angle_deg=angle, reverse=True)
+    assert np.all(np.isfinite(result.R))
+
+
+def test_light_may_arrive_through_a_practically_transparent_half_space():
+    # Water's k (1e-9–1e-7 of n in 400–800 nm, shipped table) is below the engine's rule for a
+    # transparent incident medium (k/n < 1e-6), the same rule that allows an angle from it.
+    visible = np.linspace(400.0, 800.0, 9)
+    stack = parse_stack("TiO2 50nm / water")
+    assert np.all(stack.substrate.material.nk(visible).imag > 0)
+    back = compute(stack, visible, reverse=True, angle_deg=20.0)
+    # Reciprocity of transmittance (Macleod, Thin-Film Optical Filters, ch. 2) at normal incidence.
+    front = compute(stack, visible)
+    back0 = compute(stack, visible, reverse=True)
+    np.testing.assert_allclose(back0.T, front.T, rtol=1e-6)
+    assert np.all(np.isfinite(back.R))
+    # Just above the rule's limit it is absorbing.
+    with pytest.raises(FilmopticError, match="absorbing half-space"):
+        compute(parse_stack("TiO2 50nm / n=1.5+2e-6j"), WL, reverse=True)
 
 
 def test_raw_entry_point_checks_its_lists():

@@ -19,6 +19,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from filmoptic.engine import compute, compute_indices
+from filmoptic.materials import parse_material
 from filmoptic.stack import parse_stack
 
 TOLERANCE = 1e-9
@@ -84,8 +85,11 @@ def random_case(draw, incoherent: bool):
     ambient = draw(st.sampled_from(["air", "n=1", "n=1.33", "n=1.5"]))
     angle = draw(st.one_of(st.just(0.0), st.floats(0.0, 85.0)))
     pol = draw(st.sampled_from(["s", "p"]))
-    reverse = draw(st.booleans())
     wavelengths = draw(st.lists(st.floats(400.0, 1000.0), min_size=1, max_size=3, unique=True))
+    # Light from the back needs a way in: through a thick slab's back face, or through a
+    # transparent half-space. An absorbing half-space (Si, Ti) is refused (tested below).
+    opaque = not incoherent and np.any(parse_material(substrate).nk(np.array(wavelengths)).imag > 0)
+    reverse = draw(st.booleans()) and not opaque
     return " / ".join(layers + [substrate]), ambient, angle, pol, reverse, np.array(wavelengths)
 
 

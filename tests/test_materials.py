@@ -268,15 +268,43 @@ def test_constant_index():
 
 
 @given(
-    A=st.floats(1.2, 2.5), B=st.floats(-0.05, 0.1), C=st.floats(-0.01, 0.01),
+    A=st.floats(1.2, 2.5), B=st.floats(-0.02, 0.1), C=st.floats(0.0, 0.01),
     wl=st.floats(250.0, 2500.0),
 )
 @settings(max_examples=40, deadline=None)
 def test_cauchy_is_the_three_term_formula(A, B, C, wl):
     # n = A + B/λ² + C/λ⁴ with λ in µm (Tompkins & Irene, Handbook of Ellipsometry, 2005, ch. 2).
+    # Only physical coefficients are drawn: a model refuses n <= 0 (tested below), and with
+    # A >= 1.2, B >= -0.02 µm², C >= 0 every n here is at least 1.2 − 0.02/0.25² = 0.88. Normal
+    # dispersion has B, C >= 0 (common practice); a slightly negative B still occurs in fits.
     lam = wl / 1000.0
     expected = A + B / lam**2 + C / lam**4
     assert parse_material(f"cauchy({A!r},{B!r},{C!r})").nk(wl).real == pytest.approx(expected, rel=1e-12)
+
+
+def test_a_model_refuses_a_negative_or_zero_index():
+    # n = 1.5 − 1/0.38² = −5.425 at 380 nm (the three-term formula, evaluated by hand): no passive
+    # medium has n < 0 with k >= 0, since Im ε = 2nk >= 0 (Born & Wolf, Principles of Optics, 1999,
+    # §14.1); the message names the model, the wavelength and the value.
+    with pytest.raises(FilmopticError, match=r"cauchy\(1\.5,-1,0\) gives n = −5\.43 at 380 nm; a "
+                       r"refractive index must be positive"):
+        parse_material("cauchy(1.5,-1,0)").nk([800.0, 380.0, 600.0])
+    # Positive at long wavelengths, so only the short end is named (n(500) = 1.5 − 0.25/0.25 = 0.5).
+    assert parse_material("cauchy(1.5,-0.25,0)").nk(1000.0).real == pytest.approx(1.25)
+    with pytest.raises(FilmopticError, match="at 400 nm"):
+        parse_material("cauchy(1.5,-0.25,0)").nk([1000.0, 500.0, 400.0])
+    # N = 0 exactly (n = 1 − 1/1² at 1000 nm) is no medium either.
+    with pytest.raises(FilmopticError, match="n = 0 at 1000 nm"):
+        parse_material("cauchy(1,-1,0)").nk(1000.0)
+    # n = 0 with k > 0 is allowed: the lossless limit of a metal. A Drude metal without damping,
+    # below its plasma energy, has ε = 1 − 9²/E² < 0 and N = i·sqrt(9²/E² − 1) (Drude model;
+    # M. Fox, Optical Properties of Solids, 2010, §7.2).
+    E = 1239.841984 / 500.0
+    N = parse_material("drude(1,9,0)").nk(500.0)
+    assert N.real == 0.0 and N.imag == pytest.approx(math.sqrt(81.0 / E**2 - 1.0), rel=1e-12)
+    # Through a mix the component is named.
+    with pytest.raises(FilmopticError, match=r"cauchy\(1\.5,-1,0\) gives n = "):
+        parse_material("mix(cauchy(1.5,-1,0),n=1,0.3)").nk(380.0)
 
 
 def test_cauchy_optional_k():

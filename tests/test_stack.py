@@ -190,6 +190,42 @@ def test_syntax_errors_point_at_the_item(text, fragments):
         assert fragment.lower() in message.lower(), (fragment, message)
 
 
+# Slips of the keyboard that common practice produces: a decimal comma (most of Europe writes
+# 12,5), another list separator, a length in cm or ångström (quartz-crystal monitors read Å).
+# Each error says what was meant, in the notation's own terms.
+@pytest.mark.parametrize("text, fragments", [
+    ("Ti 12,5nm / glass", ["item 1", "'12,5'", "decimal comma", "'12.5nm'"]),
+    ("Ti 12,5 nm / glass", ["item 1", "decimal comma", "'12.5nm'"]),
+    ("SiO2 1,2um / glass", ["item 1", "decimal comma", "'1.2um'"]),
+    ("n=2.3 12,5nm / glass", ["item 1", "decimal comma", "'12.5nm'"]),
+    ("Ti 12nm, glass", ["item 1", "separated by ' / '", "not ','", "'Ti 12nm / glass'"]),
+    ("Ti 12nm | glass", ["item 1", "separated by ' / '", "not '|'", "'Ti 12nm / glass'"]),
+    ("Ti 12nm; glass 3mm", ["item 1", "separated by ' / '", "not ';'", "'Ti 12nm / glass 3mm'"]),
+    ("Ti 12nm, glass 3mm", ["item 1", "separated by ' / '", "'Ti 12nm / glass 3mm'"]),
+    ("mix(Ti,TiO2,0.3) 12nm, glass", ["item 1", "not ','", "'mix(Ti,TiO2,0.3) 12nm / glass'"]),
+    ("TiO2 60nm,/ glass", ["item 1", "separated by ' / '"]),
+    # 1 cm = 10 mm; 1 Å = 1e-10 m = 0.1 nm (definitions, common practice).
+    ("glass 4cm", ["item 1", "'cm' is not a unit here", "'40mm'", "thick slab"]),
+    ("Ti 12nm / glass 0.5cm", ["item 2", "'cm'", "'5mm'"]),
+    ("Ti 120Å / glass", ["item 1", "'Å' is not a unit here", "'12nm'"]),
+])
+def test_common_slips_get_a_pointed_hint(text, fragments):
+    with pytest.raises(StackSyntaxError) as info:
+        parse_stack(text)
+    message = str(info.value)
+    assert "\n" not in message
+    for fragment in fragments:
+        assert fragment.lower() in message.lower(), (fragment, message)
+
+
+def test_commas_inside_materials_are_not_separators():
+    # Commas belong to mix(…) and model coefficients; a real unknown material still gets the
+    # library's suggestions, not the separator hint.
+    assert parse_stack("mix(Ti,TiO2,0.3) 12nm / cauchy(1.45,0.004,0) 5nm / glass").layers[1].thickness_nm == 5.0
+    with pytest.raises(UnknownMaterialError, match="TiO2"):
+        parse_stack("mix(Ti,TiO3,0.3) 12nm / glass")
+
+
 def test_unknown_material_suggests_library_names():
     with pytest.raises(UnknownMaterialError) as info:
         parse_stack("TiO3 55nm / glass")

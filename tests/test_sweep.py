@@ -102,9 +102,50 @@ def test_chart_layout():
     (["sweep", "TiO2 ? / Ti"], ["--range"]),
     (["sweep", "TiO2 ? / Ti", "--range", "0:100:1", "--chart", "chart.bmp"], [".png"]),
     (["sweep", "TiO2 ? / Ti", "--range", "0:100:1", "--illuminant", "F13"], ["illuminant"]),
+    # A range written in the stack and a --range that leaves it: neither silently wins.
+    (["sweep", "TiO2 10..50nm / Ti", "--range", "0:250:1"],
+     ["--range 0:250:1", "10..50 nm", "TiO2 thickness (layer 1)", "leave out --range"]),
+    (["sweep", "TiO2 10..50nm / Ti", "--range", "20:60:1"], ["outside 10..50 nm"]),
 ])
 def test_user_errors(run_cli, args, fragments):
     assert_user_error(run_cli(args), *fragments)
+
+
+def test_a_bounded_layer_sweeps_its_own_range(run_cli):
+    # What a coater who wrote 'TiO2 10..50nm' expects: exactly that range, both ends, 1 nm steps.
+    data = json.loads(run_cli(["sweep", "TiO2 10..50nm / Ti", "--json"]).stdout)
+    assert data["thickness_nm"] == [float(d) for d in range(10, 51)]
+    # The same colours as an explicit --range over a '?' layer.
+    same = json.loads(run_cli(["sweep", "TiO2 ? / Ti", "--range", "10:50:1", "--json"]).stdout)
+    assert data["reflected_Lab"] == same["reflected_Lab"]
+    # A --range inside the written range narrows the sweep.
+    inside = json.loads(run_cli(["sweep", "TiO2 10..50nm / Ti", "--range", "20:40:10", "--json"]).stdout)
+    assert inside["thickness_nm"] == [20.0, 30.0, 40.0]
+    # An end that is not on the 1 nm grid is still included.
+    odd = json.loads(run_cli(["sweep", "TiO2 10..12.5nm / Ti", "--json"]).stdout)
+    assert odd["thickness_nm"] == [10.0, 11.0, 12.0, 12.5]
+
+
+def test_a_wide_bounded_range_uses_coarser_round_steps(run_cli):
+    data = json.loads(run_cli(["sweep", "SiO2 0..5000nm / Si", "--json"]).stdout)
+    assert data["thickness_nm"][:3] == [0.0, 5.0, 10.0] and data["thickness_nm"][-1] == 5000.0
+    assert len(data["thickness_nm"]) == 1001
+
+
+def test_api_refuses_thicknesses_outside_the_written_range():
+    from filmoptic.errors import FilmopticError
+
+    assert cm.sweep_bounds_nm(cm_stack("TiO2 10..50nm / Ti")) == (10.0, 50.0)
+    assert cm.sweep_bounds_nm(cm_stack("TiO2 ? / Ti")) is None
+    with pytest.raises(FilmopticError, match="outside 10..50 nm"):
+        cm.colour_sweep("TiO2 10..50nm / Ti", np.arange(0.0, 100.0))
+    assert cm.colour_sweep("TiO2 10..50nm / Ti", [10.0, 50.0]).thickness_nm.tolist() == [10.0, 50.0]
+
+
+def cm_stack(text):
+    from filmoptic.stack import parse_stack
+
+    return parse_stack(text)
 
 
 def test_opaque_substrate_chart_leaves_out_transmission():

@@ -23,6 +23,52 @@ __all__ = ["sweep"]
 
 # Above this many thicknesses the sweep runs in blocks with a progress bar (on a terminal).
 _PROGRESS_FROM = 20_000
+# A layer's own LOW..HIGH is swept in 1 nm steps, coarser (1-2-5) for wide ranges so that the
+# table stays readable: at most about this many steps.
+_DEFAULT_STEPS = 1000
+
+
+def _default_step(span_nm: float) -> float:
+    """1 nm, or the smallest 1-2-5 step giving at most ``_DEFAULT_STEPS`` steps over the span."""
+    import math
+
+    if span_nm <= _DEFAULT_STEPS:
+        return 1.0
+    decade = 10.0 ** math.floor(math.log10(span_nm / _DEFAULT_STEPS))
+    return next(m * decade for m in (1, 2, 5, 10) if m * decade * _DEFAULT_STEPS >= span_nm)
+
+
+def _thicknesses(range_text, bounds, name):
+    """The swept thicknesses: --range, the layer's own LOW..HIGH, or an error naming the conflict."""
+    import numpy as np
+
+    from filmoptic.errors import FilmopticError
+    from filmoptic.units import parse_range_nm
+
+    if range_text is None:
+        if bounds is None:
+            raise FilmopticError(
+                "--range START:STOP:STEP is needed for a layer written '?' (e.g. --range 0:250:1), "
+                "or write its range in the stack (e.g. 'TiO2 0..250nm / Ti')"
+            )
+        start, stop = bounds
+        step = _default_step(stop - start)
+    else:
+        start, stop, step = parse_range_nm(range_text, what="--range", need_step=True)
+        if bounds is not None:
+            low, high = bounds
+            tol = 1e-9 * max(1.0, high)
+            if start < low - tol or stop > high + tol:
+                raise FilmopticError(
+                    f"--range {range_text} reaches outside {low:g}..{high:g} nm, written in the "
+                    f"stack for {name}; leave out --range to sweep {low:g}–{high:g} nm, or make "
+                    "the two agree"
+                )
+    count = int(np.floor((stop - start) / step + 1e-9)) + 1
+    thickness = start + step * np.arange(count)
+    if thickness[-1] < stop - 1e-9 * max(1.0, stop) and range_text is None:
+        thickness = np.append(thickness, stop)    # the layer's own range: both ends included
+    return thickness
 
 
 def _lab_text(lab) -> list[str]:
@@ -33,8 +79,9 @@ def _lab_text(lab) -> list[str]:
 @click.command()
 @click.argument("stack")
 @click.option(
-    "--range", "range_text", required=True, metavar="START:STOP:STEP",
-    help="Thicknesses of the unknown layer in nm, e.g. 0:250:1 (both ends included).",
+    "--range", "range_text", metavar="START:STOP:STEP",
+    help="Thicknesses of the unknown layer in nm, e.g. 0:250:1 (both ends included). Needed for "
+         "a layer written '?'; a layer written LOW..HIGH sweeps that range without it.",
 )
 @illuminant_option
 @observer_option
@@ -49,11 +96,14 @@ def _lab_text(lab) -> list[str]:
 def sweep(stack, range_text, illuminant, observer, angle, ambient, chart_path, extrapolate, as_json):
     """Colour and luminous values of STACK over a range of one layer's thickness.
 
-    STACK has exactly one unknown, the thickness of the layer to vary, written '?':
+    STACK has exactly one unknown, the thickness of the layer to vary, written '?' (then
+    --range says which thicknesses) or LOW..HIGH (then that range is swept in 1 nm steps, or
+    in coarser 1-2-5 steps beyond 1000 nm; a --range must lie inside it):
 
     \b
         filmoptic sweep "TiO2 ? / Ti" --range 0:250:1 --chart ti-oxide.pdf
         filmoptic sweep "SiO2 ? / Si" --range 0:600:5 --observer 10
+        filmoptic sweep "TiO2 10..50nm / Ti"
 
     For every thickness the command reports the colour reflected from the coated side and the
     transmitted colour (CIELAB L*, a*, b* and the sRGB colour a screen would show; '*' marks a
@@ -72,18 +122,20 @@ def sweep(stack, range_text, illuminant, observer, angle, ambient, chart_path, e
     """
     import numpy as np
 
-    from filmoptic.colorimetry import check_illuminant, check_observer, colour_sweep
+    from filmoptic.colorimetry import check_illuminant, check_observer, colour_sweep, sweep_bounds_nm
     from filmoptic.stack import parse_stack
     from filmoptic.units import parse_range_nm
 
     with user_errors():
         if chart_path:
             check_plot_path(chart_path)
-        start, stop, step = parse_range_nm(range_text, what="--range", need_step=True)
-        thickness = start + step * np.arange(int(np.floor((stop - start) / step + 1e-9)) + 1)
+        if range_text is not None:
+            parse_range_nm(range_text, what="--range", need_step=True)   # before the stack's errors
         obs = check_observer(observer)
         label = check_illuminant(illuminant)
         parsed = parse_stack(stack, ambient=ambient)
+        bounds = sweep_bounds_nm(parsed)
+        thickness = _thicknesses(range_text, bounds, parsed.parameters[parsed.thickness_parameters[0]].name)
         options = dict(illuminant=illuminant, observer=obs, angle_deg=angle, extrapolate=extrapolate)
         if thickness.size > _PROGRESS_FROM:
             with progress(thickness.size, "sweeping") as advance:

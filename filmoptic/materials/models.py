@@ -81,6 +81,34 @@ class _Model(Material):
     def _values(self) -> list:
         return [float(c) for c in self._coefficients]
 
+    def nk(self, wavelength_nm, *, extrapolate: bool = False) -> np.ndarray:
+        """N = n + i·k at the given wavelengths (nm); refuses n < 0 and N = 0 (see below).
+
+        A passive medium has Im ε = 2·n·k >= 0 and N = √ε on the branch k >= 0, so n >= 0; n = 0
+        occurs only with k > 0, where ε is real and negative (the lossless limit of a free-electron
+        metal, e.g. ``drude(1,9,0)`` below its plasma energy), which the engine handles. A formula
+        fitted over one range (Cauchy's, most often) and used far outside it can run to n <= 0:
+        that is a typo or a bad extrapolation, not a material, and it would give reflectances
+        above those of a metal without any warning. Tables are checked for n > 0 when read.
+
+        Raises
+        ------
+        FilmopticError
+            Naming the model, the wavelength and the index, e.g. ``cauchy(1.5,-1,0) gives
+            n = −5.43 at 380 nm; a refractive index must be positive``.
+        """
+        N = super().nk(wavelength_nm, extrapolate=extrapolate)
+        bad = (N.real < 0) | ((N.real == 0) & (N.imag == 0))
+        if np.any(bad):
+            wl = np.broadcast_to(np.asarray(wavelength_nm, dtype=float), N.shape)
+            worst = np.unravel_index(np.argmin(np.where(bad, N.real, np.inf)), N.shape)
+            value = f"{float(N.real[worst]):.3g}".replace("-", "−")
+            raise FilmopticError(
+                f"{self.label} gives n = {value} at {float(wl[worst]):g} nm; a refractive index "
+                "must be positive"
+            )
+        return N
+
     def free_parameters(self) -> list:
         return [
             (f"{self.keyword} {name}", c)
