@@ -15,6 +15,7 @@ ISO 9050:2003 (luminous values); CIE 15:2018 §8.2.1 (CIELAB chroma); see :mod:`
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass
 
 from .errors import FilmopticError
@@ -80,6 +81,36 @@ def _chroma(ab):
     return None if ab is None else math.hypot(ab[0], ab[1])
 
 
+# A candidate written as a layer: a material followed by a thickness ("Ti 10nm", "Ti 10").
+_LAYER_RE = re.compile(
+    r"^(?P<material>.+?)\s+(?P<thickness>(?:[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?|\?)\s*(?:nm|um|µm|μm|mm)?)$"
+)
+
+
+def _check_candidate(material: str) -> None:
+    """A candidate must be a material as written in stack notation, not a layer or a stack: compare
+    supplies the unknown thickness and the substrate itself."""
+    from .materials import parse_material
+
+    if not material:
+        raise FilmopticError("compare: a candidate material is empty")
+    if "/" in material:
+        raise FilmopticError(
+            f"compare: {material!r} is a stack; give each candidate as a material name alone (e.g. Ti), "
+            "the substrate with --on"
+        )
+    try:
+        parse_material(material)
+    except FilmopticError as exc:
+        layer = _LAYER_RE.match(material)
+        if layer:
+            raise FilmopticError(
+                f"compare: {material!r} is a layer with a thickness; give the material name alone "
+                f"({layer.group('material').strip()!r}): compare finds the thickness"
+            ) from None
+        raise type(exc)(f"compare: candidate {material!r}: {exc}") from None
+
+
 def compare_materials(materials, substrate, conditions, *, range_nm=None, angle_deg=0.0,
                       extrapolate=False, ambient="air") -> Comparison:
     """Solve the same target for each candidate material as a single layer on ``substrate``.
@@ -118,11 +149,13 @@ def compare_materials(materials, substrate, conditions, *, range_nm=None, angle_
         raise FilmopticError("compare: name at least one candidate material")
     if len(set(materials)) != len(materials):
         raise FilmopticError("compare: a candidate is named twice")
-    substrate = str(substrate).strip()
+    substrate = str(substrate if substrate is not None else "").strip()
+    if not substrate.strip("/ "):
+        raise FilmopticError('compare: the substrate is missing; name it with --on, e.g. --on "glass 4mm"')
+    for material in materials:   # all names checked before any solving
+        _check_candidate(material)
     candidates = []
     for material in materials:   # one solve per candidate; each is vectorised inside
-        if "/" in material or "?" in material:
-            raise FilmopticError(f"compare: {material!r} should be a material name, not a stack")
         stack = f"{material} ? / {substrate}"
         result = solve_thickness(stack, conditions, range_nm=range_nm, angle_deg=angle_deg,
                                  extrapolate=extrapolate, ambient=ambient)

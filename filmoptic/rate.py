@@ -56,6 +56,7 @@ __all__ = [
     "parse_run",
     "parse_thickness",
     "thickness_from_solve_file",
+    "is_solve_file",
     "fit_rate",
 ]
 
@@ -75,12 +76,15 @@ class Run:
         the run (``21.8nm+-0.4nm``) or half a ``solve`` interval.
     source : str
         Where the thickness came from, as the user wrote it.
+    text : str
+        The whole ``--run`` value as written (for messages), or ``""``.
     """
 
     duration_s: float
     thickness_nm: float
     sigma_nm: float | None = None
     source: str = ""
+    text: str = ""
 
 
 @dataclass(frozen=True)
@@ -140,32 +144,95 @@ class RateFit:
     runs: tuple
 
 
-def thickness_from_solve_file(path) -> tuple[float, float | None]:
-    """Read the first solution of a ``filmoptic solve --json`` output file.
+#: ``FILE.json`` or ``FILE.json#N``: the N-th solution (1-based, as numbered in the solve table).
+_SOLVE_FILE = re.compile(r"^(?P<path>.+\.json)(?:#(?P<index>[^#]*))?$", re.IGNORECASE)
 
-    Returns the thickness and a standard uncertainty taken as half the reported interval
-    (``(high_nm - low_nm) / 2``), or ``None`` when the interval is empty.
+
+def is_solve_file(text: str) -> bool:
+    """Whether a run's thickness names a solve output (``FILE.json`` or ``FILE.json#N``)."""
+    return _SOLVE_FILE.match(str(text).strip()) is not None
+
+
+def thickness_from_solve_file(path, index: int | None = None) -> tuple[float, float | None]:
+    """Read one solution of a ``filmoptic solve --json`` output file.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The file; ``FILE.json#N`` picks the N-th solution (1-based, the ``#`` column of the solve
+        table) when ``index`` is not given.
+    index : int, optional
+        Which solution (1-based). Without it the file must hold exactly one solution: several
+        (interference orders, or colour matches) are different thicknesses, and taking one of
+        them silently would put a wrong point on the rate line.
+
+    Returns
+    -------
+    thickness_nm, sigma_nm
+        The thickness and a standard uncertainty taken as half the reported interval
+        (``(high_nm - low_nm) / 2``), or ``None`` when the interval is empty.
     """
-    path = Path(path)
+    path, index = _split_solve_reference(path, index)
     try:
         data = json.loads(path.read_text(encoding="utf-8"))
-        first = data["solutions"][0]
-        thickness = float(first["thickness_nm"])
-        low, high = first.get("low_nm"), first.get("high_nm")
+        solutions = data["solutions"]
+        if not isinstance(solutions, list) or not solutions:
+            raise ValueError("no solutions")
+        count = len(solutions)
+        if index is None and count > 1:
+            raise _SeveralSolutions(count)
+        if index is not None and not 1 <= index <= count:
+            raise _SeveralSolutions(count)
+        chosen = solutions[(index or 1) - 1]
+        thickness = float(chosen["thickness_nm"])
+        low, high = chosen.get("low_nm"), chosen.get("high_nm")
     except FileNotFoundError:
         raise DataFileError(f"{path}: no such file") from None
     except (OSError, UnicodeDecodeError) as exc:
         raise DataFileError(f"{path}: cannot read it ({exc.__class__.__name__})") from None
-    except (json.JSONDecodeError, KeyError, IndexError, TypeError, ValueError):
+    except _SeveralSolutions as several:
+        n = several.count
+        if index is None:
+            raise FilmopticError(
+                f"{path} holds {n} solutions (several thicknesses meet the condition): add the number of "
+                f"the one to use, as in the '#' column of the solve table, e.g. {path}#2 (1 to {n})"
+            ) from None
+        choice = f"pick one of {path}#1 … {path}#{n}" if n > 1 else f"write {path} (or {path}#1)"
+        raise FilmopticError(
+            f"{path}#{index}: the file holds {n} solution{'s' if n != 1 else ''}; {choice}"
+        ) from None
+    except (json.JSONDecodeError, KeyError, IndexError, TypeError, ValueError, AttributeError):
         raise DataFileError(
             f"{path}: not a 'filmoptic solve --json' output with at least one solution"
         ) from None
     if not math.isfinite(thickness) or thickness < 0:
-        raise DataFileError(f"{path}: the first solution's thickness_nm is not a valid thickness")
+        raise DataFileError(f"{path}: the chosen solution's thickness_nm is not a valid thickness")
     sigma = None
     if low is not None and high is not None and float(high) > float(low):
         sigma = (float(high) - float(low)) / 2.0
     return thickness, sigma
+
+
+class _SeveralSolutions(Exception):
+    def __init__(self, count):
+        super().__init__(count)
+        self.count = count
+
+
+def _split_solve_reference(path, index):
+    """``FILE.json#N`` → (Path(FILE.json), N); a plain path keeps ``index``."""
+    text = str(path).strip()
+    match = _SOLVE_FILE.match(text)
+    if match is None or match.group("index") is None:
+        return Path(text), index
+    index_text = match.group("index").strip()
+    if not index_text.isdigit() or int(index_text) < 1:
+        raise FilmopticError(
+            f"{text}: after '#' write the solution's number (1 for the first), e.g. {match.group('path')}#2"
+        )
+    if index is not None and index != int(index_text):
+        raise FilmopticError(f"{text}: two different solution numbers given")
+    return Path(match.group("path")), int(index_text)
 
 
 _PLUS_MINUS = re.compile(r"\s*(?:±|\+/?-)\s*")
@@ -211,8 +278,9 @@ def parse_run(text: str, tooling_factor: float | None = None) -> Run:
     THICKNESS is a length (``21.8nm``), optionally with its standard uncertainty (``21.8nm+-0.4nm``,
     ``21.8nm±2%``, see :func:`parse_thickness`); ``monitor=LENGTH`` (with the same optional
     uncertainty) for a crystal-monitor reading, multiplied by the tooling factor, which must then be
-    given; or the path of a ``filmoptic solve --json`` output file whose first solution gives the
-    thickness and, from its interval, the uncertainty.
+    given; or the path of a ``filmoptic solve --json`` output file whose solution gives the
+    thickness and, from its interval, the uncertainty (a file with several solutions needs
+    ``FILE.json#N`` to pick the N-th, see :func:`thickness_from_solve_file`).
 
     Examples
     --------
@@ -237,30 +305,45 @@ def parse_run(text: str, tooling_factor: float | None = None) -> Run:
         indicated, sigma = parse_thickness(thickness_text.split("=", 1)[1], what=what)
         thickness = indicated * tooling_factor
         sigma = None if sigma is None else sigma * tooling_factor
-    elif thickness_text.lower().endswith(".json"):
+    elif is_solve_file(thickness_text):
         thickness, sigma = thickness_from_solve_file(thickness_text)
     else:
         thickness, sigma = parse_thickness(thickness_text, what=what)
-    return Run(duration, thickness, sigma, thickness_text)
+    return Run(duration, thickness, sigma, thickness_text, text)
 
 
 def _run_sigmas(runs) -> np.ndarray | None:
     """Each run's thickness uncertainty, or None when no run has one; a mix is an error (a
     weighted fit needs every weight, and dropping the uncertainties given would hide them)."""
-    missing = [i + 1 for i, r in enumerate(runs) if r.sigma_nm is None]
+    missing = [(i + 1, r) for i, r in enumerate(runs) if r.sigma_nm is None]
     if len(missing) == len(runs):
         return None
     if missing:
-        which = ", ".join(str(i) for i in missing)
+        lacking = "; ".join(f"run {i} ({_how_to_add_sigma(r)})" for i, r in missing)
         raise FilmopticError(
-            f"rate: run{'s' if len(missing) > 1 else ''} {which} carr{'y' if len(missing) > 1 else 'ies'} no "
-            "thickness uncertainty but the others do; give every run one (e.g. 10min:21.8nm+-0.4nm) "
-            "or none (a solve file made without --uncertainty carries none)"
+            f"rate: the other runs carry a thickness uncertainty but {lacking} "
+            f"{'has' if len(missing) == 1 else 'have'} none; give every run one or none "
+            "(a weighted fit needs them all)"
         )
     sigma = np.array([r.sigma_nm for r in runs], dtype=float)
     if not np.all(np.isfinite(sigma) & (sigma > 0)):
         raise FilmopticError("rate: a thickness uncertainty must be a positive number of nm")
     return sigma
+
+
+def _how_to_add_sigma(run: Run) -> str:
+    """The run as written, and how to give it an uncertainty."""
+    if run.text:
+        written = f"--run {run.text}"
+    else:
+        written = f"{run.duration_s:g}s:{run.thickness_nm:g}nm"
+    if is_solve_file(run.source):
+        return f"{written}: its solve file has no interval; re-run solve with --uncertainty"
+    if run.text and ":" in run.text:
+        example = f"{run.text}+-0.4nm"
+    else:
+        example = f"{run.duration_s:g}s:{run.thickness_nm:g}nm+-0.4nm"
+    return f"{written}: write it with its uncertainty, e.g. {example}"
 
 
 def _least_squares(design, d, weights):

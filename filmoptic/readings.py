@@ -36,7 +36,9 @@ emission line, here approximated by a Gaussian; from memory).
 
 from __future__ import annotations
 
+import difflib
 import math
+import os
 import re
 
 import numpy as np
@@ -60,6 +62,8 @@ BAND_STEP_NM = 5.0
 REFERENCES = ("open", "bare")
 #: Range of the CIE 1924 V(λ) table (CIE 15:2018, Table 1).
 PHOTOPIC_RANGE_NM = (360.0, 830.0)
+#: Detectors known by name (anything else is the path of a response file).
+DETECTORS = ("photopic", "flat")
 
 _LASER = re.compile(r"^laser:\s*([0-9.eE+-]+)\s*(nm)?$", re.IGNORECASE)
 _LED = re.compile(r"^led:\s*([0-9.eE+-]+)\s*(?:nm)?\s*/\s*([0-9.eE+-]+)\s*(nm)?$", re.IGNORECASE)
@@ -121,7 +125,15 @@ def detector_response(detector: str):
         return photopic_efficiency, PHOTOPIC_RANGE_NM
     if det.lower() == "flat":
         return np.ones_like, (0.0, math.inf)
-    table = read_spectrum_file(det, what="detector response file")
+    if not os.path.exists(os.path.expanduser(det)):
+        # Most likely a misspelt name rather than a missing file: say what the names are.
+        close = difflib.get_close_matches(det.lower(), DETECTORS, n=1, cutoff=0.6)
+        hint = f"; did you mean {close[0]}?" if close else ""
+        raise FilmopticError(
+            f"--detector {det!r}: use photopic (a lux meter), flat (a power meter or thermal sensor) "
+            f"or the path of a two-column response file (no file {det!r} found){hint}"
+        )
+    table = read_spectrum_file(os.path.expanduser(det), what="detector response file")
     return table.at, table.range_nm
 
 
@@ -130,6 +142,21 @@ def _grid(lo: float, hi: float, step: float) -> np.ndarray:
     start = math.ceil(lo / step - 1e-9) * step
     wl = start + step * np.arange(int(math.floor((hi - start) / step + 1e-9)) + 1)
     return wl if wl.size >= 2 else np.array([lo, hi])
+
+
+def _check_line_source(src: str, laser, led) -> None:
+    """A source that starts like a laser or an LED but does not parse gets the notation, not an
+    'unknown illuminant' message."""
+    head = src.lower().split(":", 1)[0].strip()
+    if head == "laser" and not laser:
+        raise FilmopticError(
+            f"--source {src!r}: write laser:WL with the laser line in nm, e.g. laser:633"
+        )
+    if head == "led" and not led:
+        raise FilmopticError(
+            f"--source {src!r}: write led:CENTRE/FWHM with the LED's peak wavelength and full width "
+            "at half maximum in nm, e.g. led:530/30"
+        )
 
 
 def band_weights(source: str, detector: str, material_range_nm=(0.0, math.inf)):
@@ -178,6 +205,7 @@ def band_weights(source: str, detector: str, material_range_nm=(0.0, math.inf)):
 
     laser = _LASER.match(src)
     led = _LED.match(src)
+    _check_line_source(src, laser, led)
     if laser:
         wl0 = parse_number(laser.group(1), "--source laser wavelength")
         if wl0 <= 0:

@@ -201,14 +201,14 @@ class Target(_ScalarCondition):
     def prepare(self, stack, angle_deg=0.0, extrapolate=False):
         from .colorimetry import luminous
 
+        wl = _visible() if self.quantity.startswith("luminous") else np.array([float(self.wavelength_nm)])
+        _check_light_path(stack, wl, extrapolate, self.label(), self.quantity.endswith("T"), self.side)
         if self.quantity.startswith("luminous"):
-            wl = _visible()
             spectra = _channel(stack, wl, self.quantity[-1], self.side, angle_deg, extrapolate)
 
             def evaluate(t):
                 return np.asarray(luminous(wl, spectra(t), self.illuminant), dtype=float)
         else:
-            wl = np.array([float(self.wavelength_nm)])
             spectra = _channel(stack, wl, self.quantity, self.side, angle_deg, extrapolate)
 
             def evaluate(t):
@@ -258,6 +258,7 @@ class ColourTarget:
 
     def prepare(self, stack, angle_deg=0.0, extrapolate=False):
         wl = _visible()
+        _check_light_path(stack, wl, extrapolate, self.label(), self.appearance == "transmitted", self.side)
         channel = "R" if self.appearance == "reflected" else "T"
         spectra = _channel(stack, wl, channel, self.side, angle_deg, extrapolate)
 
@@ -311,6 +312,7 @@ class Reading(_ScalarCondition):
 
     def prepare(self, stack, angle_deg=0.0, extrapolate=False):
         wl, weights = band_weights(self.source, self.detector, covered_range_nm(stack, extrapolate))
+        _check_light_path(stack, wl, extrapolate, "a transmittance reading", True, "front")
         level = reference_level(stack, self.reference, wl, weights, angle_deg=angle_deg, extrapolate=extrapolate)
         spectra = _channel(stack, wl, "T", "front", angle_deg, extrapolate)
 
@@ -369,6 +371,48 @@ def _check_fraction(value, what):
 def _check_uncertainty(u):
     if not (math.isfinite(u) and u >= 0):
         raise FilmopticError(f"--uncertainty must be a non-negative number, got {u!r}")
+
+
+def _light_crosses_substrate(stack, wl, extrapolate) -> bool:
+    """Whether light can cross the substrate at the wavelengths ``wl``: out behind the part, or in
+    from behind it.
+
+    The rule of :func:`filmoptic.colorimetry.transmission_exits` (a slab, or a non-absorbing
+    half-space), applied at the condition's own wavelengths: a laser reading at 1300 nm into
+    silicon is meaningful even though silicon absorbs in the visible.
+    """
+    from .colorimetry import OPAQUE_K, VISIBLE_RANGE_NM, transmission_exits
+
+    wl = np.asarray(wl, dtype=float)
+    lo, hi = VISIBLE_RANGE_NM
+    if wl.size and np.all((wl >= lo) & (wl <= hi)):
+        return transmission_exits(stack, wl, extrapolate=extrapolate)
+    if stack.substrate.thickness_nm is not None:
+        return True
+    k = np.imag(np.asarray(stack.substrate.material.nk(wl, extrapolate=extrapolate)))
+    return bool(np.max(k) <= OPAQUE_K)
+
+
+def _check_light_path(stack, wl, extrapolate, what, transmitted, side):
+    """Refuse a condition that needs light to cross an absorbing half-space substrate: a
+    transmittance (nothing comes out behind it; "T" would be the light absorbed in it) or a view
+    from the substrate side (no light arrives from behind it)."""
+    if not (transmitted or side == "reverse"):
+        return
+    if _light_crosses_substrate(stack, wl, extrapolate):
+        return
+    name = stack.substrate.label
+    if transmitted:
+        raise FilmopticError(
+            f"{what}: no light comes out behind the substrate {name!r}, an absorbing half-space (what "
+            "enters it is absorbed); solve for a reflectance (--luminous-R, --R-at, --lab) instead, or "
+            "give the substrate as a slab with its thickness (e.g. 'glass 4mm')"
+        )
+    raise FilmopticError(
+        f"{what}: no light arrives from behind the substrate {name!r}, an absorbing half-space; the "
+        "substrate side (--side reverse) needs a substrate slab with its thickness (e.g. 'glass 4mm') "
+        "or a transparent half-space"
+    )
 
 
 def _spectra(stack, wl, t, angle_deg, reverse, extrapolate):

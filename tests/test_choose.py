@@ -82,3 +82,26 @@ def test_cli_caution_for_dark_targets(run_cli):
     result = run_cli(["compare", "Ti", "--on", "glass 4mm", "--luminous-T", "5%"])
     assert result.exit_code == 0
     assert "eye protection" in result.stderr
+
+
+@pytest.mark.parametrize("candidate", ["Ti 10nm", "Ti 10 nm", "Ti ?", "Ti 2mm"])
+def test_a_layer_is_not_a_candidate(run_cli, candidate):
+    # compare supplies the unknown thickness itself; a thickness on a candidate is a mistake.
+    result = run_cli(["compare", candidate, "--on", "glass 4mm", "--luminous-T", "30%"])
+    assert_user_error(result, "is a layer", "'Ti'")
+    assert f"{candidate} ?" not in result.stderr          # no internal stack text
+    with pytest.raises(FilmopticError, match="is a layer"):
+        compare_materials([candidate], "glass 4mm", Target("luminous_T", 0.3))
+
+
+def test_missing_substrate(run_cli):
+    for substrate in ("", "  ", "/"):
+        with pytest.raises(FilmopticError, match="substrate is missing"):
+            compare_materials(["Ti"], substrate, Target("luminous_T", 0.3))
+    assert_user_error(run_cli(["compare", "Ti", "--on", "/", "--luminous-T", "30%"]), "substrate is missing")
+    assert_user_error(run_cli(["compare", "Ti", "--on", "", "--luminous-T", "30%"]), "--on")
+
+
+def test_unknown_candidate_is_named_once():
+    with pytest.raises(FilmopticError, match="candidate 'Unobtainium'"):
+        compare_materials(["Ti", "Unobtainium"], "glass 4mm", Target("luminous_T", 0.3))

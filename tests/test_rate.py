@@ -327,3 +327,49 @@ def test_cli_malformed_solve_file(tmp_path, run_cli):
     bad = tmp_path / "bad.json"
     bad.write_text("{not json")
     assert_user_error(run_cli(["rate", "--run", f"5min:{bad}"]), "bad.json")
+
+
+def _solve_file(path, thicknesses, half_widths=None):
+    """A file shaped like 'filmoptic solve --json' output (only the fields rate reads)."""
+    half_widths = half_widths or [0.0] * len(thicknesses)
+    path.write_text(json.dumps({"solutions": [
+        {"thickness_nm": d, "low_nm": d - h, "high_nm": d + h} for d, h in zip(thicknesses, half_widths)
+    ]}))
+    return path
+
+
+def test_cli_solve_file_with_several_solutions_needs_a_choice(tmp_path, run_cli):
+    # Several solutions are different thicknesses (interference orders): taking one silently
+    # would put a wrong point on the rate line.
+    multi = _solve_file(tmp_path / "multi.json", [12.0, 140.0, 160.0], [0.5, 0.6, 0.7])
+    assert_user_error(run_cli(["rate", "--run", f"10min:{multi}"]), "3 solutions", "multi.json#2", "1 to 3")
+    data = json.loads(run_cli(["rate", "--run", f"10min:{multi}#2", "--json"]).stdout)
+    assert data["rate_nm_per_s"] == pytest.approx(140.0 / 600.0)
+    assert data["runs"][0]["sigma_nm"] == pytest.approx(0.6)
+    assert_user_error(run_cli(["rate", "--run", f"10min:{multi}#4"]), "3 solutions", "multi.json#1", "multi.json#3")
+    assert_user_error(run_cli(["rate", "--run", f"10min:{multi}#0"]), "number")
+    assert_user_error(run_cli(["rate", "--run", f"10min:{multi}#two"]), "number")
+
+
+def test_solve_file_choice_in_the_api(tmp_path):
+    from filmoptic.rate import thickness_from_solve_file
+
+    multi = _solve_file(tmp_path / "multi.json", [12.0, 140.0], [0.5, 0.0])
+    assert thickness_from_solve_file(f"{multi}#1") == (12.0, 0.5)
+    assert thickness_from_solve_file(multi, index=2) == (140.0, None)
+    with pytest.raises(FilmopticError, match="2 solutions"):
+        thickness_from_solve_file(multi)
+    one = _solve_file(tmp_path / "one.json", [12.0])
+    assert thickness_from_solve_file(one) == thickness_from_solve_file(f"{one}#1") == (12.0, None)
+
+
+def test_mixed_uncertainties_name_the_runs_that_lack_one(tmp_path, run_cli):
+    plain = _solve_file(tmp_path / "plain.json", [15.0])
+    result = run_cli(["rate", "--run", "4min:9.1nm+-0.3nm", "--run", "10min:21.8nm", "--run", f"7min:{plain}",
+                      "--run", "12min:monitor=20nm", "--tooling", "1.3"])
+    assert_user_error(result, "run 2 (--run 10min:21.8nm", "10min:21.8nm+-", "run 3", "--uncertainty",
+                      "run 4 (--run 12min:monitor=20nm", "12min:monitor=20nm+-")
+    assert "run 1 (" not in result.stderr
+    # The API names runs built without text by their numbers.
+    with pytest.raises(FilmopticError, match=r"run 2 \(600s:21.8nm: .*600s:21.8nm\+-"):
+        fit_rate([Run(240.0, 9.1, 0.3), Run(600.0, 21.8)])

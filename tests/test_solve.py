@@ -459,3 +459,111 @@ def test_no_transmission_companions_on_an_opaque_substrate(run_cli):
     assert cp["luminous_T"] is None and cp["transmitted_ab"] is None
     assert cp["absorptance"] == pytest.approx(1 - cp["luminous_R"])
     assert "CAUTION" not in result.stderr
+
+
+# --------------------------------------------------------------------------------------------
+# Light that cannot cross the substrate (QA L3, L4)
+# --------------------------------------------------------------------------------------------
+
+# Titanium is a metal (k ≈ 3 across the visible; P. B. Johnson & R. W. Christy, Phys. Rev. B 9,
+# 5056 (1974)): as a half-space it absorbs everything that enters it, so nothing comes out behind
+# and nothing arrives from behind (common practice).
+OPAQUE_BULK = "TiO2 ? / Ti"
+
+
+@pytest.mark.parametrize(
+    "args, fragment",
+    [
+        (["--luminous-T", "20%"], "no light comes out behind"),
+        (["--T-at", "550=40%"], "no light comes out behind"),
+        (["--reading", "0.3"], "no light comes out behind"),
+        (["--lab", "50,0,0", "--appearance", "transmitted"], "no light comes out behind"),
+        (["--luminous-R", "20%", "--side", "reverse"], "no light arrives from behind"),
+        (["--R-at", "550=20%", "--side", "reverse"], "no light arrives from behind"),
+        (["--lab", "50,0,0", "--side", "reverse"], "no light arrives from behind"),
+    ],
+)
+def test_cli_refuses_light_through_an_absorbing_half_space(run_cli, args, fragment):
+    assert_user_error(run_cli(["solve", OPAQUE_BULK, *args]), fragment, "Ti")
+    assert_user_error(run_cli(["compare", "TiO2", "--on", "Ti", *args]), fragment)
+
+
+def test_api_refuses_light_through_an_absorbing_half_space():
+    for condition in (Target("luminous_T", 0.2), Target("T", 0.4, wavelength_nm=550.0), Reading(0.3),
+                      ColourTarget((50, 0, 0), appearance="transmitted"),
+                      Target("luminous_R", 0.2, side="reverse"), ColourTarget((50, 0, 0), side="reverse")):
+        with pytest.raises(FilmopticError, match="absorbing half-space"):
+            solve_thickness(OPAQUE_BULK, condition, companions=False)
+        with pytest.raises(FilmopticError, match="absorbing half-space"):
+            evaluate_condition(OPAQUE_BULK, condition, [50.0])
+    # Reflectance seen from the coated side stays meaningful on a bulk metal.
+    assert solve_thickness(OPAQUE_BULK, Target("luminous_R", 0.3), companions=False).met
+
+
+def test_transmittance_into_a_transparent_half_space_is_solved():
+    # T into a non-absorbing half-space is the power entering it, as the tmm package defines it
+    # (S. J. Byrnes, arXiv:1603.02720, 2016): the solver must accept it and agree with tmm.
+    d = 77.0
+    _, T = _tmm_single_layer(2.0, d, 1.52, 550.0)
+    # The response is symmetric about the quarter wave, 550/(4·2) = 68.75 nm (Macleod, ch. 3), so
+    # the range starts above it to leave one root.
+    result = solve_thickness("n=2.0 ? / n=1.52", Target("T", T, wavelength_nm=550.0), range_nm=(70, 100),
+                             ambient="n=1", companions=False)
+    assert [round(s.thickness_nm, 6) for s in result.solutions] == [pytest.approx(d, abs=1e-5)]
+    # The substrate side of a transparent half-space is reachable too (light from inside it):
+    # with no absorption T is the same from either side (Stokes relations; common practice), so
+    # the same thickness meets the target from behind.
+    back = solve_thickness("n=2.0 ? / n=1.52", Target("T", T, wavelength_nm=550.0, side="reverse"),
+                           range_nm=(70, 100), ambient="n=1", companions=False)
+    assert back.solutions[0].thickness_nm == pytest.approx(d, abs=1e-5)
+
+
+def test_opacity_is_judged_at_the_condition_wavelength():
+    # Silicon absorbs in the visible but is transparent below its band gap, beyond about 1.1 µm
+    # (M. A. Green, Sol. Energy Mater. Sol. Cells 92, 1305 (2008); from memory): T into a silicon
+    # half-space at 1300 nm is meaningful, at 600 nm it is not.
+    with pytest.raises(FilmopticError, match="absorbing half-space"):
+        evaluate_condition("TiO2 ? / Si", Target("T", 0.6, wavelength_nm=600.0), [50.0])
+    T = evaluate_condition("TiO2 ? / Si", Target("T", 0.6, wavelength_nm=1300.0), [50.0, 120.0])
+    assert np.all((T > 0) & (T < 1))
+
+
+# --------------------------------------------------------------------------------------------
+# Messages (QA L5, L6)
+# --------------------------------------------------------------------------------------------
+
+
+def test_cli_unmet_dark_target_is_one_line_without_caution(run_cli):
+    # An out-of-reach target is a user error: exactly one line, no caution before it.
+    result = run_cli(["solve", MIRROR, "--luminous-T", "0%", "--json"])
+    assert_user_error(result, "closest reachable")
+    assert "CAUTION" not in result.stderr
+
+
+@pytest.mark.parametrize(
+    "args, fragments",
+    [
+        (["--reading", "0.3", "--source", "laser:"], ("laser:WL", "laser:633")),
+        (["--reading", "0.3", "--source", "laser:red"], ("laser:WL",)),
+        (["--reading", "0.3", "--source", "led:530"], ("led:CENTRE/FWHM", "led:530/30")),
+        (["--reading", "0.3", "--source", "LED"], ("led:CENTRE/FWHM",)),
+        (["--reading", "0.3", "--detector", "eye"], ("photopic", "flat", "response file")),
+        (["--reading", "0.3", "--detector", "photopc"], ("did you mean photopic",)),
+        (["--luminous-T", "30%", "--appearance", "transmitted"], ("--appearance", "--lab", "--hex")),
+        (["--luminous-R", "30%", "--appearance", "reflected"], ("--appearance",)),
+        (["--luminous-T", "30%", "--source", "A"], ("--source", "--reading")),
+        (["--luminous-T", "30%", "--detector", "flat", "--reference", "bare"],
+         ("--detector and --reference", "--reading")),
+    ],
+)
+def test_cli_messages_say_how_to_write_it(run_cli, args, fragments):
+    assert_user_error(run_cli(["solve", MIRROR, *args]), *fragments)
+
+
+def test_line_sources_still_read():
+    # The notations the messages teach are the ones accepted.
+    assert band_weights("laser:633", "flat")[0].tolist() == [633.0]
+    wl, w = band_weights("led:530/30", "flat")
+    assert wl.min() < 530.0 < wl.max() and w.sum() == pytest.approx(1.0)
+    # Illuminant names that merely start with "LED" (CIE 15:2018 LED series) are not LED lines.
+    assert band_weights("LED-B1", "photopic")[0].size > 10

@@ -89,11 +89,11 @@ def test_cli_batch_keeps_columns_and_never_writes_the_input(tmp_path, run_cli):
 @pytest.mark.parametrize(
     "content, fragment",
     [
-        ("reading\n0.3\n1.3\n", "line 3"),
-        ("reading\n0.3\nabc\n", "line 3"),
+        ("reading\n1.3\n", "line 2"),            # no usable row at all
+        ("reading\nabc\n\n-0.2\n", "2 rows"),
         ("reading\n", "at least one row"),
         ("part,value\nA,0.3\n", "--column"),
-        ("reading,b\n0.3\n", "fields"),
+        ("reading,b\n0.3\n", "the header has 2"),
     ],
 )
 def test_cli_batch_bad_files(tmp_path, run_cli, content, fragment):
@@ -112,3 +112,47 @@ def test_cli_batch_refuses_to_overwrite_its_input(tmp_path, run_cli):
 
 def test_cli_batch_missing_file(tmp_path, run_cli):
     assert_user_error(run_cli(["solve", MIRROR, "--readings", tmp_path / "nope.csv"]), "nope.csv")
+
+
+def test_cli_batch_marks_bad_rows_and_solves_the_rest(tmp_path, run_cli):
+    # A practitioner's file with a few unreadable cells: the good rows are solved exactly as on
+    # their own, each bad row is marked with its line, and one warning line counts them.
+    template = Reading(0.5, "A", "photopic")
+    d = [6.0, 11.0, 17.0]
+    good = [f"{v:.9f}" for v in evaluate_condition(MIRROR, template, d)]
+    src = tmp_path / "parts.csv"
+    _write(src, [["part", "lux"], ["P0", good[0]], ["P1", "n/a"], ["P2", good[1]], ["P3", "1.3"],
+                 ["P4", ""], ["P5", good[2]], ["P6"]])
+    before = src.read_bytes()
+    out = tmp_path / "out.csv"
+    result = run_cli(["solve", MIRROR, "--readings", src, "--column", "lux", "--source", "A", "--out", out])
+    assert result.exit_code == 0, result.stderr
+    assert src.read_bytes() == before
+    warning = [line for line in result.stderr.splitlines() if line.strip()]
+    assert len(warning) == 1 and "4 of 7 rows" in warning[0] and "line 3" in warning[0]
+    with open(out, newline="", encoding="utf-8") as fh:
+        rows = list(csv.DictReader(fh))
+    assert [r["part"] for r in rows] == [f"P{i}" for i in range(7)]
+    status = [r["status"] for r in rows]
+    assert status[0] == status[2] == status[5] == "ok"
+    assert status[1] == "bad reading (line 3: 'n/a')"
+    assert status[3] == "bad reading (line 5: '1.3')"
+    assert status[4] == "bad reading (line 6: '')"
+    assert status[6].startswith("bad reading (line 8: 1 field")
+    np.testing.assert_allclose([float(rows[i]["thickness_nm"]) for i in (0, 2, 5)], d, atol=1e-3)
+    assert all(rows[i]["thickness_nm"] == "" for i in (1, 3, 4, 6))
+
+
+def test_cli_batch_json_stays_clean_with_bad_rows(tmp_path, run_cli):
+    import json
+
+    src = tmp_path / "r.csv"
+    value = float(evaluate_condition(MIRROR, Reading(0.5), [9.0])[0])
+    src.write_text(f"reading\n{value:.9f}\nabc\n", encoding="utf-8")
+    result = run_cli(["solve", MIRROR, "--readings", src, "--json"])
+    assert result.exit_code == 0, result.stderr
+    rows = json.loads(result.stdout)["rows"]
+    assert rows[0]["status"] == "ok" and rows[0]["thickness_nm"] == pytest.approx(9.0, abs=1e-3)
+    assert rows[1]["status"] == "bad reading" and rows[1]["thickness_nm"] is None
+    assert "line 3" in rows[1]["problem"]
+    assert len(result.stderr.strip().splitlines()) == 1 and "1 of 2 rows has a bad reading" in result.stderr

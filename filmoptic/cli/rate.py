@@ -28,8 +28,9 @@ def _pm(sigma, fmt: str) -> str:
          "thickness it gave: a length (21.8nm), with its standard uncertainty when known "
          "(21.8nm+-0.4nm, 21.8nm±0.4nm or 21.8nm+-2%); 'monitor=LENGTH' for a crystal-monitor "
          "reading (needs --tooling; the same +- accepted); or a 'filmoptic solve --json' output file "
-         "(its first solution's thickness_nm, with half the low_nm..high_nm interval as the "
-         "uncertainty). Give an uncertainty for every run or for none.",
+         "(its solution's thickness_nm, with half the low_nm..high_nm interval as the "
+         "uncertainty; when the file lists several solutions, FILE.json#N takes the N-th, as "
+         "numbered in the solve table). Give an uncertainty for every run or for none.",
 )
 @click.option("--target", metavar="THICKNESS", help="Thickness wanted from the next run, e.g. 15nm.")
 @click.option(

@@ -6,6 +6,9 @@ The condition options are shared with ``filmoptic compare`` (:func:`condition_op
 
 from __future__ import annotations
 
+import math
+import re
+from dataclasses import dataclass
 from pathlib import Path
 
 import click
@@ -90,6 +93,17 @@ def _wl_value(text: str, what: str):
     return wl, parse_fraction(value_text, what=what)
 
 
+def _given(name: str, differs_from_default: bool) -> bool:
+    """Whether the user typed option ``name`` (not just its default) in the running command."""
+    from click.core import ParameterSource
+
+    ctx = click.get_current_context(silent=True)
+    source = ctx.get_parameter_source(name) if ctx is not None else None
+    if source is None:
+        return differs_from_default
+    return source not in (ParameterSource.DEFAULT, ParameterSource.DEFAULT_MAP)
+
+
 def build_conditions(opts: dict, need_value: bool = True) -> list:
     """Turn the shared options into Target/ColourTarget/Reading conditions (in a fixed order).
 
@@ -125,11 +139,26 @@ def build_conditions(opts: dict, need_value: bool = True) -> list:
         wl, v = _wl_value(text, "--R-at")
         conditions.append(Target("R", v, wavelength_nm=wl, side=side, uncertainty=unc(v)))
     appearance = opts.get("appearance", "reflected")
+    if _given("appearance", appearance != "reflected") and not (opts.get("lab") or opts.get("hex_")):
+        raise FilmopticError(
+            f"--appearance {appearance} applies to a colour target: add --lab L,a,b or --hex #RRGGBB, "
+            "or drop --appearance (luminous and single-wavelength targets name T or R themselves)"
+        )
     for text in opts.get("lab") or ():
         conditions.append(ColourTarget(parse_lab(text), appearance, side, unc(None, True), illuminant, text))
     for text in opts.get("hex_") or ():
         conditions.append(ColourTarget(lab_from_hex(text, illuminant), appearance, side, unc(None, True),
                                        illuminant, text))
+    reading_options = [f"--{name}" for name, default in (("source", "D65"), ("detector", "photopic"),
+                                                          ("reference", "open"))
+                       if _given(name, opts.get(name, default) != default)]
+    if opts.get("reading") is None and need_value and reading_options:
+        one = len(reading_options) == 1
+        names = " and ".join([", ".join(reading_options[:-1]), reading_options[-1]] if not one else reading_options)
+        raise FilmopticError(
+            f"{names} describe{'s' if one else ''} a measured reading: add --reading VALUE, or drop "
+            f"{'it' if one else 'them'}"
+        )
     if opts.get("reading") is not None or not need_value:
         # Validate the source and detector now so that a typo is reported before any work.
         band_weights(opts.get("source", "D65"), opts.get("detector", "photopic"))
@@ -223,9 +252,27 @@ def print_result(result, show_companions: bool) -> None:
                    "the substrate; a*b* is the CIELAB tint (D65).")
 
 
-def _read_column(path: Path, column: str | None):
-    """Rows of a CSV file, and the readings in one column (as fractions)."""
+@dataclass(frozen=True)
+class _Column:
+    """A CSV file's rows and one column of readings; a row that cannot be read keeps its place
+    with a NaN value and a note, so the good rows are still solved."""
+
+    header: list
+    rows: list            # every data row, as lists of the header's length (for the output)
+    values: object        # numpy array of fractions, NaN for a bad row
+    notes: dict           # row index -> "line N: '…'" (the short status of a bad row)
+    reasons: dict         # row index -> the full reason, for the one-line summary
+
+
+def _read_column(path: Path, column: str | None) -> _Column:
+    """Rows of a CSV file, and the readings in one column (as fractions).
+
+    A whole-file problem (unreadable file, no header, no such column, no usable row) raises; a bad
+    row does not.
+    """
     import csv
+
+    import numpy as np
 
     from filmoptic.errors import DataFileError, FilmopticError
     from filmoptic.readings import parse_reading
@@ -239,17 +286,18 @@ def _read_column(path: Path, column: str | None):
             except csv.Error:
                 dialect = csv.excel
             reader = csv.reader(fh, dialect)
-            rows = list(reader)
+            # line_num after each row is the file line where that row ends (for messages).
+            numbered = [(reader.line_num, row) for row in reader]
     except FileNotFoundError:
         raise DataFileError(f"--readings {path}: no such file") from None
     except (OSError, UnicodeDecodeError) as exc:
         raise DataFileError(f"--readings {path}: cannot read it ({exc.__class__.__name__})") from None
     except csv.Error as exc:
         raise DataFileError(f"--readings {path}: not a readable CSV file ({exc})") from None
-    rows = [r for r in rows if any(cell.strip() for cell in r)]
-    if len(rows) < 2:
+    numbered = [(line, r) for line, r in numbered if any(cell.strip() for cell in r)]
+    if len(numbered) < 2:
         raise DataFileError(f"--readings {path}: needs a header line and at least one row of readings")
-    header = [h.strip() for h in rows[0]]
+    header = [h.strip() for h in numbered[0][1]]
     if column is None:
         column = "reading" if "reading" in header else None
         if column is None:
@@ -259,15 +307,54 @@ def _read_column(path: Path, column: str | None):
     if column not in header:
         raise DataFileError(f"--readings {path}: no column {column!r} (columns: {', '.join(header)})")
     col = header.index(column)
-    values = []
-    for line, row in enumerate(rows[1:], start=2):
-        if len(row) != len(header):
-            raise DataFileError(f"--readings {path}, line {line}: {len(row)} fields, the header has {len(header)}")
-        try:
-            values.append(parse_reading(row[col]))
-        except FilmopticError as exc:
-            raise DataFileError(f"--readings {path}, line {line}: {exc}") from None
-    return header, rows[1:], values, dialect
+    width = len(header)
+    rows, values, notes, reasons = [], [], {}, {}
+    for index, (line, row) in enumerate(numbered[1:]):
+        value = math.nan
+        if len(row) != width:
+            fields = f"{len(row)} field{'s' if len(row) != 1 else ''}, the header has {width}"
+            notes[index] = f"line {line}: {fields}"
+            reasons[index] = notes[index]
+        else:
+            try:
+                value = parse_reading(row[col])
+            except FilmopticError as exc:
+                notes[index] = f"line {line}: {row[col].strip()!r}"
+                # parse_reading speaks of the --reading option; here the value came from a cell.
+                reasons[index] = f"line {line}: " + re.sub(r"^--reading:?\s*", "", str(exc))
+        # The output keeps the header's columns so that the added ones line up.
+        rows.append((row + [""] * width)[:width])
+        values.append(value)
+    if len(notes) == len(rows):
+        first = reasons[0]
+        raise DataFileError(
+            f"--readings {path}: no usable reading in column {column!r} ({len(rows)} "
+            f"row{'s' if len(rows) != 1 else ''}; first problem: {first})"
+        )
+    return _Column(header, rows, np.asarray(values, dtype=float), notes, reasons)
+
+
+def _spread(result, good):
+    """A BatchResult of the good rows spread over every row (NaN, 0 and "bad" elsewhere)."""
+    import numpy as np
+
+    from dataclasses import replace
+
+    n = good.size
+
+    def full(values, fill, dtype=float):
+        out = np.full(n, fill, dtype=dtype)
+        out[good] = values
+        return out
+
+    return replace(
+        result,
+        thickness_nm=full(result.thickness_nm, np.nan), low_nm=full(result.low_nm, np.nan),
+        high_nm=full(result.high_nm, np.nan), value=full(result.value, np.nan),
+        slope_per_nm=full(result.slope_per_nm, np.nan), solutions=full(result.solutions, 0, int),
+        status=full(result.status, "bad", object), closest_value=full(result.closest_value, np.nan),
+        closest_nm=full(result.closest_nm, np.nan),
+    )
 
 
 def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
@@ -284,25 +371,30 @@ def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
         raise FilmopticError("--readings takes a column of readings alone: drop the other targets")
     if out is not None and Path(out).resolve() == Path(readings_path).resolve():
         raise FilmopticError("--out must not be the readings file itself (input files are never written)")
-    header, rows, values, _ = _read_column(Path(readings_path), column)
+    table = _read_column(Path(readings_path), column)
+    header, rows = table.header, table.rows
+    added = ["thickness_nm", "low_nm", "high_nm", "solutions", "status"]
+    clash = [a for a in added if a in header]
+    if clash:
+        raise FilmopticError(f"--readings: the file already has column(s) {', '.join(clash)}; rename them")
     u_text = opts.get("uncertainty")
     relative = u_text is not None and str(u_text).strip().endswith("%")
     u = 0.0 if u_text is None else (parse_uncertainty(u_text, 1.0) if relative else parse_uncertainty(u_text))
     from filmoptic.cli._common import progress
     from filmoptic.solve import BATCH_STEPS
 
-    with progress(BATCH_STEPS, f"solving {len(values)} readings") as advance:
-        result = solve_batch(stack_text, conditions[0], np.asarray(values), uncertainty=u,
+    good = np.isfinite(table.values)
+    with progress(BATCH_STEPS, f"solving {int(good.sum())} readings") as advance:
+        solved = solve_batch(stack_text, conditions[0], table.values[good], uncertainty=u,
                              relative_uncertainty=relative, advance=advance, **common)
-    added = ["thickness_nm", "low_nm", "high_nm", "solutions", "status"]
-    clash = [a for a in added if a in header]
-    if clash:
-        raise FilmopticError(f"--readings: the file already has column(s) {', '.join(clash)}; rename them")
+    result = _spread(solved, good)
 
     def cell(x):
         return "" if not np.isfinite(x) else f"{x:.4f}"
 
     def status(i):
+        if result.status[i] == "bad":
+            return f"bad reading ({table.notes[i]})"
         if result.status[i] == "unreachable":
             return f"unreachable (closest {100 * result.closest_value[i]:.2f} % at {result.closest_nm[i]:.1f} nm)"
         if result.status[i] == "several":
@@ -316,7 +408,7 @@ def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
             writer.writerow(row + [cell(result.thickness_nm[i]), cell(result.low_nm[i]), cell(result.high_nm[i]),
                                    int(result.solutions[i]), status(i)])
 
-    counts = {k: int(np.sum(result.status == k)) for k in ("ok", "several", "unreachable")}
+    counts = {k: int(np.sum(result.status == k)) for k in ("ok", "several", "unreachable", "bad")}
     if out is not None:
         write_atomically(out, write)
         if as_json:
@@ -324,17 +416,26 @@ def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
                        "range_nm": result.range_nm, "step_nm": result.step_nm,
                        "condition": condition_json(conditions[0])})
         else:
+            bad = f", {counts['bad']} bad reading{'s' if counts['bad'] != 1 else ''}" if counts["bad"] else ""
             click.echo(f"{len(rows)} rows: {counts['ok']} ok, {counts['several']} with several solutions "
-                       f"(thinnest given), {counts['unreachable']} unreachable → {out}")
+                       f"(thinnest given), {counts['unreachable']} unreachable{bad} → {out}")
     elif as_json:
         emit_json({"condition": condition_json(conditions[0]), "range_nm": result.range_nm,
                    "rows": [{"thickness_nm": result.thickness_nm[i], "low_nm": result.low_nm[i],
                              "high_nm": result.high_nm[i], "solutions": int(result.solutions[i]),
-                             "status": str(result.status[i])} for i in range(len(rows))]})
+                             "status": "bad reading" if result.status[i] == "bad" else str(result.status[i]),
+                             **({"problem": table.reasons[i]} if i in table.reasons else {})}
+                            for i in range(len(rows))]})
     else:
         buffer = io.StringIO()
         write(buffer)
         click.echo(buffer.getvalue(), nl=False)
+    if table.notes:
+        # One line on stderr once the output is complete, so that --json output stays clean.
+        first = table.reasons[min(table.reasons)]
+        verb = "rows have" if counts["bad"] != 1 else "rows has"
+        click.echo(f"filmoptic: warning: {counts['bad']} of {len(rows)} {verb} a bad reading, marked "
+                   f"'bad reading' in the status column (first: {' '.join(first.split())})", err=True)
 
 
 @click.command()
@@ -348,7 +449,8 @@ def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
 @click.option("--readings", "readings_path", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
               help="A CSV file with one part per row: solve every reading in a column (see --column) and "
                    "write a CSV with the thicknesses (see --out). --source, --detector, --reference and "
-                   "--uncertainty apply to every row.")
+                   "--uncertainty apply to every row. A row whose reading cannot be read is marked "
+                   "'bad reading (line N: …)' in the status column; the other rows are still solved.")
 @click.option("--column", metavar="NAME", help="Column of --readings holding the readings (default 'reading').")
 @click.option("--out", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
               help="Where --readings writes its CSV: the input columns plus thickness_nm, low_nm, high_nm, "
@@ -415,8 +517,7 @@ def solve(stack, range_text, step, readings_path, column, out, angle, ambient, e
         conditions = build_conditions(opts)
         result = solve_thickness(stack, conditions, **common)
     if not result.met:
-        if needs_eye_caution(conditions, ()):
-            echo_caution(EYE_CAUTION)
+        # A user error is one line on stderr: no caution before it (nothing was computed to trust).
         raise TargetError(result.message)
     if needs_eye_caution(conditions, result.solutions):
         echo_caution(EYE_CAUTION)
