@@ -136,13 +136,11 @@ def _colour():
     """
     import sys
 
-    if "colour" not in sys.modules:
-        options = np.get_printoptions()
-        import colour
-
-        np.set_printoptions(**options)
+    options = None if "colour" in sys.modules else np.get_printoptions()
     import colour
 
+    if options is not None:
+        np.set_printoptions(**options)
     return colour
 
 
@@ -1058,10 +1056,6 @@ def appearance(stack, *, illuminant="D65", observer=2, angle_deg=0.0, ambient=No
     )
 
 
-#: A half-space substrate with k above this anywhere in 380–780 nm is treated as opaque.
-OPAQUE_K = 1e-4
-
-
 def transmission_exits(stack, wavelength_nm=None, *, extrapolate=False) -> bool:
     """Whether transmitted light can reach an observer behind the part.
 
@@ -1073,8 +1067,9 @@ def transmission_exits(stack, wavelength_nm=None, *, extrapolate=False) -> bool:
         return True
     wl = default_wavelengths() if wavelength_nm is None else np.asarray(wavelength_nm, dtype=float)
     wl = wl[_visible_mask(wl)]
-    k = np.imag(np.asarray(stack.substrate.material.nk(wl, extrapolate=extrapolate)))
-    return bool(np.max(k) <= OPAQUE_K)
+    from filmoptic.materials import is_practically_transparent
+
+    return is_practically_transparent(stack.substrate.material.nk(wl, extrapolate=extrapolate))
 
 
 # --------------------------------------------------------------------------------------------

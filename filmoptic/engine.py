@@ -114,7 +114,7 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
         ``"unpolarized"`` averages the s and p results.
     reverse : bool, optional
         Send the light in from the substrate side: through a thick substrate's back face, or
-        through a half-space substrate that is practically transparent (k/n < 1e-6, the rule
+        through a half-space substrate that is practically transparent (k/n ≤ 1e-4, the rule
         for any incident medium); an absorbing half-space (a metal, silicon) is refused.
     thickness_nm : array_like, optional
         Shape ``(*batch, K)``: the K free thicknesses of the stack (in
@@ -288,26 +288,18 @@ def _check_angles(angle_deg) -> np.ndarray:
     return angles
 
 
-# An incident medium whose k is below this fraction of n (water: k ≈ 1e-9 in the visible) is
-# transparent over any path that matters here; its absorption is dropped so that an angle of
-# incidence is defined.
-_TRANSPARENT_INCIDENT_K = 1e-6
-
-
-def _practically_transparent(N) -> bool:
-    """k/n below :data:`_TRANSPARENT_INCIDENT_K` at every wavelength (water, glass, air)."""
-    return bool(np.all(N.imag <= _TRANSPARENT_INCIDENT_K * N.real))
-
-
 def _incident_index(material, N0, angles) -> np.ndarray:
     """The incident medium's index, checked for a meaningful angle of incidence.
 
     n0·sin θ0 must be real (tmm requires the same). A practically transparent medium such as
-    water (k/n < 1e-6) has its tiny k dropped; a truly absorbing one is an error at an angle.
+    water (:func:`filmoptic.materials.is_practically_transparent`) has its tiny k dropped, which
+    changes R and T by less than k/n; a truly absorbing one is an error at an angle.
     """
+    from filmoptic.materials import is_practically_transparent
+
     if not np.any(angles > 0) or not np.any(N0.imag > 0):
         return N0
-    if _practically_transparent(N0):
+    if is_practically_transparent(N0):
         return N0.real.astype(complex)
     _check_incidence(material, N0, angles)
     return N0
@@ -330,7 +322,9 @@ def _check_entry_through_substrate(substrate, N, wl) -> None:
     unbounded stretch of the substrate, which only a practically transparent one (the same k/n
     rule as for an incident medium) lets through. Through a metal or silicon nothing arrives.
     """
-    if _practically_transparent(N):
+    from filmoptic.materials import is_practically_transparent
+
+    if is_practically_transparent(N):
         return
     text = getattr(substrate, "text", "") or getattr(substrate.material, "label", substrate.material)
     worst = int(np.argmax(N.imag / N.real))

@@ -381,7 +381,8 @@ def _light_crosses_substrate(stack, wl, extrapolate) -> bool:
     half-space), applied at the condition's own wavelengths: a laser reading at 1300 nm into
     silicon is meaningful even though silicon absorbs in the visible.
     """
-    from .colorimetry import OPAQUE_K, VISIBLE_RANGE_NM, transmission_exits
+    from .colorimetry import VISIBLE_RANGE_NM, transmission_exits
+    from .materials import is_practically_transparent
 
     wl = np.asarray(wl, dtype=float)
     lo, hi = VISIBLE_RANGE_NM
@@ -389,8 +390,7 @@ def _light_crosses_substrate(stack, wl, extrapolate) -> bool:
         return transmission_exits(stack, wl, extrapolate=extrapolate)
     if stack.substrate.thickness_nm is not None:
         return True
-    k = np.imag(np.asarray(stack.substrate.material.nk(wl, extrapolate=extrapolate)))
-    return bool(np.max(k) <= OPAQUE_K)
+    return is_practically_transparent(stack.substrate.material.nk(wl, extrapolate=extrapolate))
 
 
 def _check_light_path(stack, wl, extrapolate, what, transmitted, side):

@@ -309,7 +309,7 @@ def _split_items(text: str, prefix: str):
         if not piece.strip():
             raise StackSyntaxError(
                 f"item {label} is empty: two '/' in a row, or a '/' at the start or end"
-                + (f" of the group" if prefix else "")
+                + (" of the group" if prefix else "")
             )
         items.append((label, piece))
     return items

@@ -10,6 +10,18 @@ import pytest
 
 MODULES = [
     "filmoptic.units",
+    "filmoptic.materials",
+    "filmoptic.materials.base",
+    "filmoptic.materials.models",
+    "filmoptic.materials.tables",
+    "filmoptic.materials.mixing",
+    "filmoptic.materials.library",
+    "filmoptic.materials.expression",
+    "filmoptic.stack",
+    "filmoptic.engine",
+    "filmoptic.measured",
+    "filmoptic.envelope",
+    "filmoptic.fit",
     "filmoptic.colorimetry",
     "filmoptic.roots",
     "filmoptic.readings",
@@ -17,6 +29,8 @@ MODULES = [
     "filmoptic.choose",
     "filmoptic.rate",
     "filmoptic.plots.chart",
+    "filmoptic.plots.nk",
+    "filmoptic.plots.spectrum",
 ]
 
 

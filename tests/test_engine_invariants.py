@@ -191,8 +191,9 @@ def test_light_cannot_arrive_through_an_absorbing_half_space(substrate, angle):
 
 
 def test_light_may_arrive_through_a_practically_transparent_half_space():
-    # Water's k (1e-9–1e-7 of n in 400–800 nm, shipped table) is below the engine's rule for a
-    # transparent incident medium (k/n < 1e-6), the same rule that allows an angle from it.
+    # Water's k (1e-9–1e-7 of n in 400–800 nm, shipped table) is below the rule for a medium light
+    # can cross (k/n <= 1e-4, filmoptic.materials.TRANSPARENT_K_OVER_N), the same rule that
+    # allows an angle from it.
     visible = np.linspace(400.0, 800.0, 9)
     stack = parse_stack("TiO2 50nm / water")
     assert np.all(stack.substrate.material.nk(visible).imag > 0)
@@ -204,7 +205,7 @@ def test_light_may_arrive_through_a_practically_transparent_half_space():
     assert np.all(np.isfinite(back.R))
     # Just above the rule's limit it is absorbing.
     with pytest.raises(FilmopticError, match="absorbing half-space"):
-        compute(parse_stack("TiO2 50nm / n=1.5+2e-6j"), WL, reverse=True)
+        compute(parse_stack("TiO2 50nm / n=1.5+2e-4j"), WL, reverse=True)
 
 
 def test_raw_entry_point_checks_its_lists():

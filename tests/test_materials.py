@@ -7,8 +7,6 @@ checked against their textbook formulas, evaluated here independently.
 
 from __future__ import annotations
 
-import doctest
-import importlib
 import json
 import math
 import re
@@ -656,18 +654,3 @@ def test_cli_plot(run_cli, tmp_path, suffix, magic):
 def test_cli_user_errors(run_cli, tmp_path, monkeypatch, args, fragments):
     monkeypatch.chdir(tmp_path)
     assert_user_error(run_cli(args), *fragments)
-
-
-# ---------------------------------------------------------------------------------------------
-# Documentation examples
-# ---------------------------------------------------------------------------------------------
-@pytest.mark.parametrize(
-    "name",
-    ["filmoptic.materials", "filmoptic.materials.base", "filmoptic.materials.models",
-     "filmoptic.materials.tables", "filmoptic.materials.mixing", "filmoptic.materials.library",
-     "filmoptic.materials.expression", "filmoptic.plots.nk"],
-)
-def test_docstring_examples(name):
-    module = importlib.import_module(name)
-    failures, attempted = doctest.testmod(module, optionflags=doctest.NORMALIZE_WHITESPACE | doctest.ELLIPSIS)
-    assert attempted > 0 and failures == 0

@@ -197,7 +197,7 @@ def test_two_runs_with_uncertainties_give_the_interpolation_error_exactly():
     # t = t1 + (D − d1)(t2 − t1)/(d2 − d1), whose first-order uncertainty follows from ∂t/∂d1 and
     # ∂t/∂d2 directly (Bevington & Robinson, eq. 3.13 with independent d1, d2; from memory). This
     # route never forms the rate/offset covariance, so it checks that the covariance term is right.
-    t1, t2, d1, d2, s1, s2, D = 240.0, 600.0, 9.1, 21.8, 0.3, 0.4, 15.0
+    t1, t2, d1, d2, s1, s2, D = 300.0, 900.0, 12.0, 35.0, 0.5, 0.6, 20.0  # arbitrary inputs
     fit = fit_rate([Run(t1, d1, s1), Run(t2, d2, s2)], target_nm=D)
     span = (t2 - t1) / (d2 - d1)
     dt_dd1 = -span + (D - d1) * span / (d2 - d1)
@@ -205,7 +205,7 @@ def test_two_runs_with_uncertainties_give_the_interpolation_error_exactly():
     assert fit.time_s == pytest.approx(t1 + (D - d1) * span, rel=1e-12)
     assert fit.time_sigma_s == pytest.approx(math.hypot(dt_dd1 * s1, dt_dd2 * s2), rel=1e-10)
     # Leaving out the (negative) covariance of rate and offset would overstate the error.
-    a, b = fit.rate_nm_per_s, fit.offset_nm
+    a = fit.rate_nm_per_s
     diagonal_only = math.hypot(fit.time_s / a * fit.rate_sigma_nm_per_s, fit.offset_sigma_nm / a)
     assert diagonal_only > 1.5 * fit.time_sigma_s
 

@@ -163,15 +163,12 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
 def _opaque_half_space(parsed, wavelengths, extrapolate) -> bool:
     """True when the substrate is a half-space that absorbs somewhere in the grid: light entering
     it never comes out (the colour commands treat it the same way)."""
-    import numpy as np
-
-    from filmoptic.colorimetry import OPAQUE_K
+    from filmoptic.materials import is_practically_transparent
 
     substrate = parsed.substrate
     if substrate.thickness_nm is not None:
         return False
-    k = np.imag(substrate.material.nk(wavelengths, extrapolate=extrapolate))
-    return bool(np.max(k) > OPAQUE_K)
+    return not is_practically_transparent(substrate.material.nk(wavelengths, extrapolate=extrapolate))
 
 
 def _title(parsed, angle, polarization, reverse) -> str:

@@ -12,7 +12,7 @@ Examples
 array(1.46+0.j)
 """
 
-from .base import KINDS, Material, MaterialInfo
+from .base import KINDS, TRANSPARENT_K_OVER_N, Material, MaterialInfo, is_practically_transparent
 from .expression import parse_coefficient, parse_material
 from .library import ENV_VAR, find_dataset, get_material, list_materials, material_names
 from .mixing import Bruggeman, bruggeman_epsilon
@@ -21,6 +21,8 @@ from .tables import TabulatedMaterial, load_nk_file, read_nk_file
 
 __all__ = [
     "KINDS",
+    "TRANSPARENT_K_OVER_N",
+    "is_practically_transparent",
     "Material",
     "MaterialInfo",
     "parse_material",

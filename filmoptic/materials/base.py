@@ -16,10 +16,34 @@ import numpy as np
 from filmoptic.errors import FilmopticError, WavelengthRangeError
 from filmoptic.params import is_free
 
-__all__ = ["Material", "MaterialInfo", "KINDS", "format_range_nm"]
+__all__ = ["Material", "MaterialInfo", "KINDS", "format_range_nm", "TRANSPARENT_K_OVER_N", "is_practically_transparent"]
 
 #: The kinds a material may have; the solver uses them to choose a default thickness range.
 KINDS = ("metal", "dielectric", "semiconductor", "substrate", "ambient", "model")
+
+#: A medium with k/n at or below this at every wavelength counts as transparent where light must
+#: cross an unbounded stretch of it (an incident medium, or a half-space substrate lit or seen from
+#: behind). Its absorption length λ/(4πk) is then over ~0.3 mm at 400 nm: glass, fused silica,
+#: sapphire, water and the low-loss film oxides pass; metals, silicon, ITO and ZnS do not.
+TRANSPARENT_K_OVER_N = 1e-4
+
+
+def is_practically_transparent(N) -> bool:
+    """Whether a medium of complex index ``N`` (n + i·k, any shape) lets light cross it.
+
+    The one rule used wherever a half-space must be crossed; see :data:`TRANSPARENT_K_OVER_N`.
+
+    Examples
+    --------
+    >>> is_practically_transparent([1.333 + 1e-9j, 1.33 + 2e-8j])
+    True
+    >>> is_practically_transparent(3.0 + 4.0j)
+    False
+    """
+    import numpy as np
+
+    N = np.asarray(N, dtype=complex)
+    return bool(np.all(N.imag <= TRANSPARENT_K_OVER_N * N.real))
 
 
 def format_range_nm(wavelength_range_nm) -> str:
