@@ -262,3 +262,13 @@ def test_no_arguments_shows_the_overview_not_an_error_line(run_cli):
 @pytest.mark.parametrize("typo, meant", [("spectrm", "spectrum"), ("colour", "color"), ("materail", "materials")])
 def test_a_misspelt_command_gets_a_suggestion(run_cli, typo, meant):
     assert_user_error(run_cli([typo, STACK]), f"did you mean '{meant}'")
+
+
+def test_extrapolation_warning_is_one_plain_line(run_cli):
+    # PMMA's default table starts at 400 nm (Zhang 2020 data); the colour grid starts at 380 nm.
+    result = run_cli(["color", "Al 10nm / PMMA 3mm", "--extrapolate", "--json"])
+    assert result.exit_code == 0, result.stderr
+    warnings_ = [line for line in result.stderr.splitlines() if line.strip()]
+    assert warnings_ and all(line.startswith("filmoptic: warning: ") for line in warnings_), result.stderr
+    assert "holding the end values" in warnings_[0]
+    json.loads(result.stdout)

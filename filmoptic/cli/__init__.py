@@ -11,6 +11,7 @@ import importlib
 import os
 import re
 import sys
+import warnings
 
 import click
 
@@ -199,6 +200,17 @@ def main(argv=None) -> int:
     traceback of an unexpected error.
     """
     args = sys.argv[1:] if argv is None else list(argv)
+    with warnings.catch_warnings():
+        warnings.showwarning = _show_warning
+        return _run(args)
+
+
+def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
+    """Warnings meant for the user (e.g. held end values with --extrapolate) as one line each."""
+    click.echo(f"filmoptic: warning: {_one_line(message)}", err=True)
+
+
+def _run(args) -> int:
     try:
         rv = cli.main(args=args, prog_name="filmoptic", standalone_mode=False)
         return rv if isinstance(rv, int) else 0
