@@ -44,9 +44,11 @@ def test_unknown_option_is_one_line(run_cli):
 
 
 def test_version(run_cli):
+    from importlib.metadata import version
+
     result = run_cli(["--version"])
     assert result.exit_code == 0
-    assert "filmoptic" in result.stdout
+    assert "filmoptic" in result.stdout and version("filmoptic") in result.stdout
 
 
 def test_demo_runs_from_another_folder(tmp_path, run_cli_subprocess):

@@ -213,7 +213,8 @@ def test_transparent_half_space_gets_no_such_note(run_cli):
 
 
 def test_reverse_through_an_absorbing_half_space_is_refused(run_cli):
-    # Bulk silicon is opaque at 550 nm (Green 2008: k ≈ 0.03, absorption length ~1.5 µm).
+    # Bulk silicon is opaque at 550 nm (M. A. Green, Sol. Energy Mater. Sol. Cells 92, 1305 (2008):
+    # k ≈ 0.03, absorption length λ/(4πk) ≈ 1.5 µm; from memory).
     assert_user_error(run_cli(["spectrum", "Ti 12nm / Si", "--reverse", "--wl", "550"]), "half-space")
 
 

@@ -76,6 +76,14 @@ def test_lamp_chromaticities(illuminant, x, y):
     assert xy == pytest.approx([x, y], abs=6e-4)
 
 
+def test_the_cie_illuminants_are_all_offered():
+    # The tests below are parametrized over cm.ILLUMINANT_NAMES; it must hold the CIE 15:2018
+    # standard and tabulated illuminants: A, C, D50–D75, E, F1–F12 and the LED series.
+    cie = {"A", "C", "D50", "D55", "D65", "D75", "E", *(f"F{i}" for i in range(1, 13)),
+           "LED-B1", "LED-B2", "LED-B3", "LED-B4", "LED-B5", "LED-BH1", "LED-RGB1", "LED-V1", "LED-V2"}
+    assert cie <= set(cm.ILLUMINANT_NAMES)
+
+
 @pytest.mark.parametrize("name", cm.ILLUMINANT_NAMES)
 def test_every_illuminant_white_agrees_with_colour_science_table(name):
     key = f"FL{name[1:]}" if name[0] == "F" and name[1:].isdigit() else name
@@ -196,6 +204,7 @@ def test_close_to_colour_science_astm_e308_defaults():
 
 
 def test_batch_equals_single_spectra():
+    # Self-consistency of the vectorised path (each single spectrum is tied to colour-science above).
     rng = np.random.default_rng(10)
     values = rng.random((3, 4, WL.size))
     batch = cm.colour_of(WL, values, "D50", 10)
@@ -209,7 +218,8 @@ def test_batch_equals_single_spectra():
 
 
 def test_non_uniform_grid_agrees_with_uniform():
-    # A smooth spectrum sampled on a 1 nm grid with a 5 nm tail gives nearly the same colour.
+    # A smooth spectrum sampled on a 1 nm grid with a 5 nm tail gives nearly the same colour
+    # (self-consistency of the integration; 5 nm summation is allowed by CIE 15:2018 §7.1).
     fine = np.concatenate([np.arange(380.0, 600.0, 1.0), np.arange(600.0, 781.0, 5.0)])
 
     def spectrum(wl):

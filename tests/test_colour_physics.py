@@ -103,6 +103,7 @@ def test_appearance_against_tmm_and_colour_science(text, ambient, illuminant, ob
 
 
 def test_appearance_over_angles_matches_single_angles():
+    # Self-consistency of the vectorised angle path; single angles are tied to tmm above.
     stack = parse_stack("Ti 12nm / glass 4mm")
     many = cm.appearance(stack, illuminant="A", angle_deg=[0.0, 30.0, 60.0])
     for i, angle in enumerate([0.0, 30.0, 60.0]):
@@ -113,6 +114,7 @@ def test_appearance_over_angles_matches_single_angles():
 
 
 def test_sweep_matches_appearance_of_each_thickness():
+    # Self-consistency: the vectorised sweep against single appearances (tied to tmm above).
     sweep = cm.colour_sweep("TiO2 ? / glass 2mm", [0.0, 37.5, 120.0], illuminant="F2", observer=10, angle_deg=15)
     for i, d in enumerate([0.0, 37.5, 120.0]):
         one = cm.appearance(f"TiO2 {d}nm / glass 2mm", illuminant="F2", observer=10, angle_deg=15)

@@ -1,4 +1,8 @@
-"""Run the examples in the public modules' docstrings (they are part of the documentation)."""
+"""Run the examples in the public modules' docstrings (they are part of the documentation).
+
+The outputs printed in those examples pin what the documentation shows; they are not checks
+against the outside world (those live in the other test files, with their sources).
+"""
 
 from __future__ import annotations
 

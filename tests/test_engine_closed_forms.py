@@ -170,7 +170,15 @@ def test_single_film_extrema_at_quarter_wave_multiples():
     R = spectrum(f"n={n} {d}nm / n={ns}", wl).R
     peaks = wl[1:-1][(R[1:-1] > R[:-2]) & (R[1:-1] > R[2:])]
     expected = [4 * n * d / m for m in (3, 5, 7) if 450 < 4 * n * d / m < 1100]
+    assert len(expected) == 2
     np.testing.assert_allclose(sorted(peaks), sorted(expected), atol=0.2)
+    # The extreme values: at odd m the film acts as a quarter-wave layer,
+    # R = ((n0·ns − n²)/(n0·ns + n²))² (Macleod ch. 3); at even m it is an absentee (half-wave)
+    # layer and R is the bare substrate's Fresnel value.
+    odd = spectrum(f"n={n} {d}nm / n={ns}", expected).R
+    np.testing.assert_allclose(odd, ((ns - n**2) / (ns + n**2)) ** 2, rtol=1e-12)
+    even = spectrum(f"n={n} {d}nm / n={ns}", [4 * n * d / m for m in (4, 6, 8)]).R
+    np.testing.assert_allclose(even, fresnel_normal(1.0, ns), rtol=1e-12)
 
 
 def test_raw_indices_equal_the_notation():

@@ -74,6 +74,8 @@ def test_transmittance_is_the_same_from_both_sides(text, angle, pol):
 
 
 def test_reverse_equals_the_reversed_stack():
+    # Self-consistency of two entry points (reverse light is checked against tmm in
+    # test_engine_tmm.py); the physics is in the last assertion.
     stack = parse_stack("Cr 10nm / TiO2 50nm / glass 3mm")
     a = compute(stack, WL, reverse=True, angle_deg=20.0)
     b = compute(stack.reversed(), WL, angle_deg=20.0)
@@ -86,6 +88,8 @@ def test_reverse_equals_the_reversed_stack():
 
 
 def test_zero_thickness_layer_is_absent():
+    # A layer of zero thickness has the unit characteristic matrix (Macleod, Thin-Film Optical
+    # Filters, ch. 2): the stack is the bare substrate.
     with_zero = compute(parse_stack("Ti 0nm / TiO2 0nm / glass 2mm"), WL)
     bare = compute(parse_stack("glass 2mm"), WL)
     np.testing.assert_allclose(with_zero.R, bare.R, atol=1e-15)

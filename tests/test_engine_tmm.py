@@ -191,6 +191,23 @@ def test_total_internal_reflection_and_frustrated_tir_agree_with_tmm(angle, pol)
             assert abs(T[i, j] - out["T"]) <= TOLERANCE
 
 
+@pytest.mark.parametrize("pol", ["s", "p"])
+def test_total_internal_reflection_at_a_thick_gap(pol):
+    # The random cases above (derandomized) never reach the evanescent branch of _check, so it is
+    # exercised here on purpose: glass (n = 1.5) / 2 mm of air / glass. Beyond the critical angle
+    # (41.8°) the field in the gap decays over millimetres to nothing: R = 1, T = 0 (total internal
+    # reflection; Born & Wolf, Principles of Optics, §1.5.4). Below it, tmm.inc_tmm applies.
+    stack_text, ambient = "n=1 2mm / n=1.5", "n=1.5"
+    wl = np.array([500.0, 633.0])
+    stack = parse_stack(stack_text, ambient=ambient)
+    assert np.all(_evanescent_in_a_thick_layer(stack, stack.ambient, wl, 50.0))
+    _check(stack_text, ambient, 50.0, pol, False, wl, incoherent=True)
+    beyond = compute(stack, wl, angle_deg=50.0, polarization=pol)
+    np.testing.assert_allclose(beyond.R, 1.0, atol=1e-12)
+    assert not np.any(_evanescent_in_a_thick_layer(stack, stack.ambient, wl, 30.0))
+    _check(stack_text, ambient, 30.0, pol, False, wl, incoherent=True)
+
+
 def test_a_batch_of_thicknesses_and_angles_equals_one_call_each():
     # The vectorised grid must give exactly what single evaluations (checked against tmm
     # above) give: thickness sets × angles × wavelengths.

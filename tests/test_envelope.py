@@ -91,5 +91,8 @@ def test_too_few_fringes_is_a_user_error():
 def test_film_below_the_substrate_index_is_refused():
     wl = np.arange(400.0, 1000.0 + 1, 1.0)
     T = tmm_film_on_slab(1.38, 2000.0, 1.52, wl)   # MgF2-like film on glass: n < s
-    with pytest.raises(FilmopticError):
+    # Many fringes here, so the refusal must be about the index, not about too few extrema: with
+    # n < s the film only ever raises T above the bare substrate's, its half-wave minima equal to
+    # it (Macleod ch. 3); Swanepoel's (1983) formulas assume n > s.
+    with pytest.raises(FilmopticError, match="index is below the substrate"):
         swanepoel(wl, T, 1.52)

@@ -25,8 +25,10 @@ from filmoptic.stack import parse_stack
 # UV-Vis instrument; from memory).
 NOISE = 0.002
 
-# Cauchy coefficients of Schott SF10 dense flint, A = 1.7280, B = 0.01342 µm² (F. A. Jenkins &
-# H. E. White, Fundamentals of Optics; as tabulated under "Cauchy's equation", from memory).
+# Cauchy coefficients of SF10 dense flint glass, A = 1.7280, B = 0.01342 µm², as commonly tabulated
+# with the two-term Cauchy equation in optics references (from memory; the original tabulation is
+# not confirmed here). They serve as a realistic dispersion for the round trip, not as data.
+# They serve as a realistic dispersion only: the fit must return whatever the data were made with.
 SF10_A, SF10_B = 1.7280, 0.01342
 
 

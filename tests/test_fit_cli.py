@@ -113,7 +113,8 @@ def test_user_errors(run_cli, measured_files, tmp_path):
                                "--quantity", "T", "--quantity", "R", "--quantity", "T"]), "--quantity")
     assert_user_error(run_cli(["fit", "TiO2 ? / glass 1mm", "--measured", t_path, "--quantity", "R"]), "header says T")
     assert_user_error(run_cli(["fit", "TiO2 ? / glass 1mm", "--measured", t_path, "--range", "5:1"]), "--range")
-    assert_user_error(run_cli(["fit", "Unobtainium ? / glass 1mm", "--measured", t_path]))
+    assert_user_error(run_cli(["fit", "Unobtainium ? / glass 1mm", "--measured", t_path]), "unknown material",
+                      "Unobtainium")
     assert_user_error(run_cli(["fit", "TiO2 ? / glass 1mm"]), "--measured")
     outside = tmp_path / "outside.csv"    # the library's glass table starts at 310 nm (Rubin 1985)
     outside.write_text("wavelength (nm),T\n250,0.5\n400,0.8\n500,0.8\n")
