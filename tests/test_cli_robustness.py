@@ -273,3 +273,15 @@ def test_extrapolation_warning_is_one_plain_line(run_cli):
     assert warnings_ and all(line.startswith("filmoptic: warning: ") for line in warnings_), result.stderr
     assert "holding the end values" in warnings_[0]
     json.loads(result.stdout)
+
+
+@pytest.mark.parametrize("written", ["10", "10°", "10deg", " 10 "])
+def test_observer_may_be_written_with_a_degree_sign(run_cli, written):
+    result = run_cli(["color", "Cr 8nm / glass 4mm", "--observer", written, "--json"])
+    assert result.exit_code == 0, result.stderr
+
+
+def test_a_chain_of_calls_is_not_a_material(run_cli):
+    # Parsed, never evaluated: the message names what a material may be.
+    assert_user_error(run_cli(["spectrum", "__import__('os').system('true') 10nm / glass"]),
+                      "cannot read the material")

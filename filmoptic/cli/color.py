@@ -26,8 +26,16 @@ illuminant_option = click.option(
          "(fluorescent), LED-B1…LED-B5, LED-BH1, LED-RGB1, LED-V1, LED-V2, or a two-column file "
          "'wavelength_nm value' with the lamp's relative spectrum covering 380–780 nm.",
 )
+class ObserverType(click.Choice):
+    """2 or 10, also written with a degree sign or 'deg' (10°, 10deg) as people do."""
+
+    def convert(self, value, param, ctx):
+        text = str(value).strip().lower().removesuffix("deg").removesuffix("°").strip()
+        return super().convert(text, param, ctx)
+
+
 observer_option = click.option(
-    "--observer", type=click.Choice(["2", "10"]), default="2", show_default=True,
+    "--observer", type=ObserverType(["2", "10"]), default="2", show_default=True,
     help="CIE standard observer: 2 (1931, small patches) or 10 (1964, large patches).",
 )
 

@@ -100,6 +100,19 @@ def _split_arguments(text: str, where: str) -> list:
     return parts
 
 
+def _closes_at_end(text: str) -> bool:
+    """Whether the first '(' of ``text`` is closed by its last character (one call, nothing after)."""
+    depth = 0
+    for position, ch in enumerate(text):
+        if ch == "(":
+            depth += 1
+        elif ch == ")":
+            depth -= 1
+            if depth == 0:
+                return position == len(text) - 1
+    return False
+
+
 def _parse_fraction(text: str):
     s = text.strip()
     if s.endswith("%"):
@@ -184,6 +197,8 @@ def parse_material(text: str) -> Material:
     if re.match(r"^n\s*=", s, re.IGNORECASE):
         return _parse_constant(s)
     call = _CALL_RE.match(s)
+    if call and not _closes_at_end(s):
+        call = None  # e.g. "f(1).g(2)": not one call; falls through to the general message
     if call:
         function = call.group(1).lower()
         args = _split_arguments(call.group(2), f"{call.group(1)}(…)")
