@@ -99,7 +99,11 @@ def case(label, stack_text, materials, thicknesses, wavelengths, angle_deg, tmm_
     row = dict(label=label, points=points, t_engine=t_engine, t_tmm=t_tmm, tmm_calls=len(picks),
                worst_tmm=worst_tmm, t_colour=None, worst_colour=None)
     if with_colour:
-        from colour.phenomena import multilayer_tmm, thin_film_tmm
+        try:
+            from colour.phenomena import multilayer_tmm, thin_film_tmm
+        except ImportError:
+            raise SystemExit("bench_engine: colour-science >= 0.4.7 (Python >= 3.11) is needed for "
+                             "its multilayer_tmm / thin_film_tmm comparison") from None
 
         if layers == 1:
             # colour's routine for a single film sweeps all thicknesses in one call.
