@@ -282,7 +282,6 @@ class _Problem:
         self.weights = 1.0 / sigma_points          # 1 everywhere when σ is estimated afterwards
         self.thickness_slots = list(stack.thickness_parameters)
         self.coefficient_slots = [i for i in range(len(stack.parameters)) if i not in self.thickness_slots]
-        self.evaluations = 0
 
     def _model_values(self, spectrum) -> np.ndarray:
         """Model values at the measured points, from a Spectrum with a leading batch axis."""
@@ -295,7 +294,6 @@ class _Problem:
     def model(self, values) -> np.ndarray:
         from .engine import compute
 
-        self.evaluations += 1
         bound = self.stack.bind(values)
         spectrum = compute(bound, self.wavelength_nm, angle_deg=self.angle_deg,
                            polarization=self.polarization, extrapolate=self.extrapolate)
@@ -319,7 +317,6 @@ class _Problem:
         """χ² (weighted) for every row of ``thickness_grid`` with the coefficients of ``values``."""
         from .engine import compute
 
-        self.evaluations += thickness_grid.shape[0]
         stack = self.coefficient_stack(values)
         spectrum = compute(stack, self.wavelength_nm, angle_deg=self.angle_deg,
                            polarization=self.polarization, thickness_nm=thickness_grid,
