@@ -540,7 +540,7 @@ def _as_grid(wavelength_nm) -> np.ndarray:
             f"colour and luminous values need the whole visible range {lo:g}–{hi:g} nm; "
             f"the grid covers {wl[0]:g}–{wl[-1]:g} nm"
         )
-    inside = wl[(wl >= lo - 1e-9) & (wl <= hi + 1e-9)]
+    inside = wl[_visible_mask(wl)]
     if inside.size < 2 or np.max(np.diff(inside)) > MAX_STEP_NM + 1e-9:
         raise FilmopticError(
             f"the wavelength grid is too coarse for colour: use a step of at most {MAX_STEP_NM:g} nm in 380–780 nm"
@@ -588,7 +588,9 @@ def _visible_mask(wl: np.ndarray) -> np.ndarray:
 
 def _illuminant_cache_key(illuminant):
     if isinstance(illuminant, TabulatedSpectrum):
-        return ("table", id(illuminant))
+        # By content, not id(): a freed table's id can be reused by another one.
+        return ("table", np.asarray(illuminant.wavelength_nm, float).tobytes(),
+                np.asarray(illuminant.values, float).tobytes())
     kind, key = _illuminant_key(illuminant)
     return (kind, key, _mtime(key) if kind == "file" else 0.0)
 
@@ -753,7 +755,8 @@ class Colour:
 
 
 def _white_xy(wl, illuminant, observer) -> np.ndarray:
-    white = tristimulus_weights(wl, illuminant, observer).sum(axis=0)
+    """Chromaticity x, y of the illuminant's white: the reference white of CIELAB and of sRGB adaptation."""
+    white = white_point(wl, illuminant, observer)
     return white[:2] / white.sum()
 
 
@@ -770,6 +773,11 @@ def _srgb_matrix(white_key: tuple) -> np.ndarray:
     )
     matrix.setflags(write=False)
     return matrix
+
+
+def _in_gamut(rgb: np.ndarray) -> np.ndarray:
+    """Per colour, whether linear sRGB lies within [0, 1] up to :data:`GAMUT_TOLERANCE`."""
+    return np.all((rgb >= -GAMUT_TOLERANCE) & (rgb <= 1 + GAMUT_TOLERANCE), axis=-1)
 
 
 def _linear_srgb(XYZ100: np.ndarray, white_xy: np.ndarray) -> np.ndarray:
@@ -794,7 +802,7 @@ def _gamut_map(Lab: np.ndarray, white_xy: np.ndarray, iterations: int = 30) -> n
     for _ in range(iterations):
         mid = 0.5 * (lo + hi)
         rgb = rgb_at(mid)
-        fits = np.all((rgb >= -GAMUT_TOLERANCE) & (rgb <= 1 + GAMUT_TOLERANCE), axis=-1)
+        fits = _in_gamut(rgb)
         lo = np.where(fits, mid, lo)
         hi = np.where(fits, hi, mid)
     return rgb_at(lo)
@@ -827,7 +835,7 @@ def colour_from_XYZ(XYZ, wavelength_nm=None, illuminant="D65", observer=2) -> Co
     Lab = colour.XYZ_to_Lab(XYZ / 100.0, white_xy)
     LCh = colour.Lab_to_LCHab(Lab)
     rgb = _linear_srgb(XYZ, white_xy)
-    inside = np.all((rgb >= -GAMUT_TOLERANCE) & (rgb <= 1 + GAMUT_TOLERANCE), axis=-1)
+    inside = _in_gamut(rgb)
     if not np.all(inside):
         rgb = np.array(rgb, dtype=float, copy=True)
         outside = ~inside
@@ -986,6 +994,21 @@ class Appearance:
     transmission_exits: bool = True
 
 
+def _stack_from(stack, ambient):
+    """A parsed stack from notation (in ``ambient``, default air) or a Stack as given.
+
+    ``ambient`` belongs to the notation: with a parsed Stack it would be silently ignored, so it is
+    refused instead.
+    """
+    from .stack import parse_stack
+
+    if isinstance(stack, str):
+        return parse_stack(stack, ambient=ambient or "air")
+    if ambient is not None:
+        raise TypeError("ambient is given with the stack's notation; a parsed Stack already has one")
+    return stack
+
+
 def appearance(stack, *, illuminant="D65", observer=2, angle_deg=0.0, ambient=None,
                wavelength_nm=None, extrapolate=False) -> Appearance:
     """Colours and luminous values of a coating stack, seen from both sides and in transmission.
@@ -1015,12 +1038,8 @@ def appearance(stack, *, illuminant="D65", observer=2, angle_deg=0.0, ambient=No
     CIE 15:2018; ISO 9050:2003 (luminous values); IEC 61966-2-1 (sRGB).
     """
     from .engine import compute
-    from .stack import parse_stack
 
-    if isinstance(stack, str):
-        stack = parse_stack(stack, ambient=ambient or "air")
-    elif ambient is not None:
-        raise TypeError("ambient is given with the stack's notation; a parsed Stack already has one")
+    stack = _stack_from(stack, ambient)
     if stack.parameters:
         names = ", ".join(p.name for p in stack.parameters)
         raise FilmopticError(f"the stack has unknown values ({names}); give numbers to see its colour")
@@ -1061,15 +1080,12 @@ def transmission_exits(stack, wavelength_nm=None, *, extrapolate=False) -> bool:
 
     True for a substrate slab (``glass 4mm``: light leaves through its back) and for a
     non-absorbing half-space (light travels on inside it); False for an absorbing half-space such
-    as a metal or silicon, where the transmittance is light absorbed in the substrate.
+    as a metal or silicon, where the transmittance is light absorbed in the substrate. This is
+    :meth:`filmoptic.stack.Stack.substrate_passes_light` judged over the visible part of the grid,
+    the light a colour is made of.
     """
-    if stack.substrate.thickness_nm is not None:
-        return True
     wl = default_wavelengths() if wavelength_nm is None else np.asarray(wavelength_nm, dtype=float)
-    wl = wl[_visible_mask(wl)]
-    from filmoptic.materials import is_practically_transparent
-
-    return is_practically_transparent(stack.substrate.material.nk(wl, extrapolate=extrapolate))
+    return stack.substrate_passes_light(wl[_visible_mask(wl)], extrapolate=extrapolate)
 
 
 # --------------------------------------------------------------------------------------------
@@ -1114,7 +1130,7 @@ class ColourSweep:
 
 def _free_thickness_index(stack) -> int:
     params = stack.parameters
-    thickness = [i for i in stack.thickness_parameters]
+    thickness = list(stack.thickness_parameters)
     if len(params) != 1 or len(thickness) != 1:
         if not thickness:
             raise FilmopticError(
@@ -1183,12 +1199,8 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
     CIE 15:2018; ISO 9050:2003; Macleod, *Thin-Film Optical Filters*, ch. 2 (the engine).
     """
     from .engine import compute
-    from .stack import parse_stack
 
-    if isinstance(stack, str):
-        stack = parse_stack(stack, ambient=ambient or "air")
-    elif ambient is not None:
-        raise TypeError("ambient is given with the stack's notation; a parsed Stack already has one")
+    stack = _stack_from(stack, ambient)
     _free_thickness_index(stack)
     obs = check_observer(observer)
     label = check_illuminant(illuminant)

@@ -301,18 +301,11 @@ def _incident_index(material, N0, angles) -> np.ndarray:
         return N0
     if is_practically_transparent(N0):
         return N0.real.astype(complex)
-    _check_incidence(material, N0, angles)
-    return N0
-
-
-def _check_incidence(material, N0, angles) -> None:
-    # n0·sin θ0 must be real for a meaningful angle of incidence (tmm requires the same).
-    if np.any(angles > 0) and np.any(N0.imag > 0):
-        raise FilmopticError(
-            f"light arrives at an angle from {getattr(material, 'label', material)}, which "
-            "absorbs (k > 0); an angle of incidence needs a transparent incident medium — use "
-            "--angle 0 or another medium"
-        )
+    raise FilmopticError(
+        f"light arrives at an angle from {getattr(material, 'label', material)}, which "
+        "absorbs (k > 0); an angle of incidence needs a transparent incident medium — use "
+        "--angle 0 or another medium"
+    )
 
 
 def _check_entry_through_substrate(substrate, N, wl) -> None:

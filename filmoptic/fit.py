@@ -381,13 +381,13 @@ def _distinct_best(points, chi2, scales, count):
     return chosen
 
 
-def _envelope_start(problem, lo, hi, angle_deg):
+def _envelope_start(problem, lo, hi):
     """A start from the envelope method, or (None, reason)."""
     from .envelope import swanepoel
 
     stack = problem.stack
     t_spectra = [s for s in problem.spectra if s.quantity == "T"]
-    if angle_deg > 10 or not t_spectra or len(stack.layers) != 1:
+    if problem.angle_deg > 10 or not t_spectra or len(stack.layers) != 1:
         return None, None
     if not problem.thickness_slots or not stack.substrate.thick:
         return None, None
@@ -668,7 +668,7 @@ def _global_search(problem, lo, hi, max_grid, starts, report):
             report(i + 1, len(sets))
         notes.append(f"global search: {len(sets)} coefficient set(s)")
     chosen = [points[i] for i in _distinct_best(points, chi2, scales, starts)]
-    envelope, envelope_note = _envelope_start(problem, lo, hi, problem.angle_deg)
+    envelope, envelope_note = _envelope_start(problem, lo, hi)
     if envelope_note:
         notes.append(envelope_note)
     if envelope is not None:

@@ -125,13 +125,10 @@ def _visible():
 
 def _lab(wl, values, illuminant="D65", observer=2) -> np.ndarray:
     """CIELAB of spectra (..., W), without the sRGB/gamut work of colour_of (not needed here)."""
-    import colour
+    from .colorimetry import _colour, _white_xy, spectrum_to_XYZ
 
-    from .colorimetry import spectrum_to_XYZ, white_point
-
-    white = white_point(wl, illuminant, observer)
     XYZ = spectrum_to_XYZ(wl, values, illuminant, observer)
-    return colour.XYZ_to_Lab(XYZ / 100.0, white[:2] / white.sum())
+    return _colour().XYZ_to_Lab(XYZ / 100.0, _white_xy(wl, illuminant, observer))
 
 
 def _channel(stack, wl, channel, side, angle_deg, extrapolate):
@@ -373,33 +370,17 @@ def _check_uncertainty(u):
         raise FilmopticError(f"--uncertainty must be a non-negative number, got {u!r}")
 
 
-def _light_crosses_substrate(stack, wl, extrapolate) -> bool:
-    """Whether light can cross the substrate at the wavelengths ``wl``: out behind the part, or in
-    from behind it.
-
-    The rule of :func:`filmoptic.colorimetry.transmission_exits` (a slab, or a non-absorbing
-    half-space), applied at the condition's own wavelengths: a laser reading at 1300 nm into
-    silicon is meaningful even though silicon absorbs in the visible.
-    """
-    from .colorimetry import VISIBLE_RANGE_NM, transmission_exits
-    from .materials import is_practically_transparent
-
-    wl = np.asarray(wl, dtype=float)
-    lo, hi = VISIBLE_RANGE_NM
-    if wl.size and np.all((wl >= lo) & (wl <= hi)):
-        return transmission_exits(stack, wl, extrapolate=extrapolate)
-    if stack.substrate.thickness_nm is not None:
-        return True
-    return is_practically_transparent(stack.substrate.material.nk(wl, extrapolate=extrapolate))
-
-
 def _check_light_path(stack, wl, extrapolate, what, transmitted, side):
     """Refuse a condition that needs light to cross an absorbing half-space substrate: a
     transmittance (nothing comes out behind it; "T" would be the light absorbed in it) or a view
-    from the substrate side (no light arrives from behind it)."""
+    from the substrate side (no light arrives from behind it).
+
+    The rule is judged at the condition's own wavelengths, not the visible range of
+    :func:`filmoptic.colorimetry.transmission_exits`: a laser reading at 1300 nm into silicon is
+    meaningful even though silicon absorbs in the visible."""
     if not (transmitted or side == "reverse"):
         return
-    if _light_crosses_substrate(stack, wl, extrapolate):
+    if stack.substrate_passes_light(wl, extrapolate=extrapolate):
         return
     name = stack.substrate.label
     if transmitted:
@@ -480,17 +461,15 @@ def lab_from_hex(text, illuminant="D65") -> tuple:
     >>> [round(v, 1) for v in lab_from_hex("#ffffff")] == [100.0, 0.0, 0.0]
     True
     """
-    import colour
+    from .colorimetry import _colour, _white_xy, default_wavelengths
 
-    from .colorimetry import white_point
-
+    colour = _colour()
     s = str(text).strip()
     if not re.fullmatch(r"#?[0-9a-fA-F]{6}", s):
         raise FilmopticError(f"--hex: write a colour as #rrggbb, got {text!r}")
     s = s.lstrip("#")
     rgb = np.array([int(s[i:i + 2], 16) for i in (0, 2, 4)], dtype=float) / 255.0
-    white = white_point(None, illuminant)
-    white_xy = white[:2] / white.sum()
+    white_xy = _white_xy(default_wavelengths(), illuminant, 2)
     XYZ = colour.RGB_to_XYZ(rgb, "sRGB", illuminant=white_xy, chromatic_adaptation_transform="Bradford",
                             apply_cctf_decoding=True)
     Lab = colour.XYZ_to_Lab(XYZ, white_xy)

@@ -188,6 +188,32 @@ class Stack:
             new_items.append(replace(layer, material=material, thickness_nm=thickness))
         return replace(self, layers=tuple(new_items[:-1]), substrate=new_items[-1])
 
+    # -- light paths --------------------------------------------------------------------------
+    def substrate_passes_light(self, wavelength_nm, *, extrapolate: bool = False) -> bool:
+        """Whether light can cross the substrate at ``wavelength_nm``: out behind the part, or in
+        from behind it.
+
+        True for a substrate slab (light leaves through its back face) and for a half-space that
+        is practically transparent at every one of the wavelengths
+        (:func:`filmoptic.materials.is_practically_transparent`); False for an absorbing
+        half-space such as a metal or silicon, where "transmitted" light is absorbed inside it.
+
+        Examples
+        --------
+        >>> parse_stack("n=2 50nm / n=1.5").substrate_passes_light([550.0])
+        True
+        >>> parse_stack("n=2 50nm / Ti").substrate_passes_light([550.0])
+        False
+        """
+        import numpy as np
+
+        from filmoptic.materials import is_practically_transparent
+
+        if self.substrate.thickness_nm is not None:
+            return True
+        wl = np.asarray(wavelength_nm, dtype=float)
+        return is_practically_transparent(self.substrate.material.nk(wl, extrapolate=extrapolate))
+
     # -- variants -----------------------------------------------------------------------------
     def bare(self) -> "Stack":
         """The substrate alone (no coating), in the same ambient and exit medium."""

@@ -507,3 +507,21 @@ def test_srgb_conversion_is_colour_science_bradford():
         expected = colour.XYZ_to_RGB(XYZ / 100, "sRGB", illuminant=white_xy,
                                      chromatic_adaptation_transform="Bradford")
         assert cm._linear_srgb(XYZ, white_xy) == pytest.approx(expected, abs=1e-12)
+
+
+def test_illuminant_tables_given_as_objects_are_not_confused_by_the_cache():
+    # Luminous weighting with a flat lamp is the V(λ)-weighted mean (ISO 9050 with S = 1); with a
+    # lamp that is zero below 580 nm it weighs only the long half. Tables created and freed one
+    # after another must each get their own weights (ids of freed objects are reused by Python).
+    wl = cm.default_wavelengths()
+    ramp = (wl >= 580).astype(float)
+    results = []
+    for lamp in (np.ones_like(wl), ramp, np.ones_like(wl), ramp):
+        table = cm.TabulatedSpectrum(wl.copy(), lamp.copy(), "test lamp")
+        results.append(float(cm.luminous(wl, ramp, table)))
+        del table
+    flat_expected = float(np.sum(cm.photopic_efficiency(wl) * ramp) / np.sum(cm.photopic_efficiency(wl)))
+    assert results[0] == pytest.approx(flat_expected, rel=1e-9)
+    assert results[1] == pytest.approx(1.0, rel=1e-12)
+    assert results[2] == pytest.approx(results[0], rel=1e-12)
+    assert results[3] == pytest.approx(1.0, rel=1e-12)

@@ -18,7 +18,8 @@ from filmoptic.cli._common import (
     user_errors,
 )
 
-__all__ = ["color", "illuminant_option", "observer_option", "colour_json", "LOW_LIGHT_CAUTION"]
+__all__ = ["color", "illuminant_option", "observer_option", "colour_json", "LOW_LIGHT_CAUTION",
+           "ABSORBED_T_NOTE", "OUT_OF_GAMUT_NOTE"]
 
 illuminant_option = click.option(
     "--illuminant", default="D65", show_default=True, metavar="NAME|FILE",
@@ -46,6 +47,12 @@ LOW_LIGHT_CAUTION = (
     "certified filter."
 )
 LOW_LIGHT_LIMIT = 0.10
+
+#: Below a table whose T is light absorbed in an opaque half-space substrate (shared with sweep).
+ABSORBED_T_NOTE = ("T: light entering the substrate, which absorbs it (an opaque half-space); "
+                   "only the reflected colour is seen.")
+#: Below a table where a colour marked '*' is shown gamut-mapped (shared with sweep).
+OUT_OF_GAMUT_NOTE = "* outside the sRGB gamut: shown with reduced chroma at the same lightness and hue."
 
 _VIEWS = (
     ("reflected", "reflected, coated side"),
@@ -242,13 +249,12 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
             print_table(_angle_headers(by_angle.reflected_reverse is not None),
                         _angle_rows(angle_list, by_angle), title="Colour versus viewing angle")
             if not by_angle.transmission_exits:
-                click.echo("T: light entering the substrate, which absorbs it (an opaque half-space); "
-                           "only the reflected colour is seen.")
+                click.echo(ABSORBED_T_NOTE)
         flagged = [result.reflected, result.reflected_reverse, result.transmitted]
         if by_angle is not None:
             flagged += [by_angle.reflected, by_angle.reflected_reverse, by_angle.transmitted]
         if any(c is not None and not np.all(c.in_gamut) for c in flagged):
-            click.echo("* outside the sRGB gamut: shown with reduced chroma at the same lightness and hue.")
+            click.echo(OUT_OF_GAMUT_NOTE)
 
     if swatch_path and not as_json:
         click.echo(f"Swatch written to {swatch_path}")

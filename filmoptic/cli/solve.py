@@ -500,9 +500,10 @@ def solve(stack, range_text, step, readings_path, column, out, angle, ambient, e
     Computed values are no substitute for certified measurement; a computed filter is no eye
     protection for sun, welding or laser viewing.
     """
-    from filmoptic.solve import solve_thickness
-    from filmoptic.units import parse_range_nm
     from filmoptic.errors import FilmopticError, TargetError
+    from filmoptic.solve import solve_thickness
+    from filmoptic.stack import parse_stack
+    from filmoptic.units import parse_range_nm
 
     with user_errors():
         range_nm = None if range_text is None else parse_range_nm(range_text)[:2]
@@ -515,7 +516,8 @@ def solve(stack, range_text, step, readings_path, column, out, angle, ambient, e
         if column is not None or out is not None:
             raise FilmopticError("--column and --out belong to --readings FILE")
         conditions = build_conditions(opts)
-        result = solve_thickness(stack, conditions, **common)
+        parsed = parse_stack(stack, ambient=ambient)
+        result = solve_thickness(parsed, conditions, **common)
     if not result.met:
         # A user error is one line on stderr: no caution before it (nothing was computed to trust).
         raise TargetError(result.message)
@@ -533,10 +535,7 @@ def solve(stack, range_text, step, readings_path, column, out, angle, ambient, e
             "solutions": result.solutions,
         })
         return
-    from filmoptic.stack import parse_stack
-
-    free_layer = _free_layer_kind(parse_stack(stack, ambient=ambient))
-    print_result(result, show_companions=free_layer == "metal")
+    print_result(result, show_companions=_free_layer_kind(parsed) == "metal")
 
 
 def _free_layer_kind(stack) -> str:

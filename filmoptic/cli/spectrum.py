@@ -102,7 +102,8 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
             )
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always", UserWarning)
-            opaque = _opaque_half_space(parsed, wl, extrapolate)
+            # An absorbing half-space substrate: light entering it never comes out.
+            opaque = not parsed.substrate_passes_light(wl, extrapolate=extrapolate)
             if reverse and opaque:
                 raise click.UsageError(
                     f"--reverse: light would have to arrive through {parsed.substrate.text}, an "
@@ -158,17 +159,6 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
         click.echo(f"wrote {csv_path}")
     if plot_path:
         click.echo(f"wrote {plot_path}")
-
-
-def _opaque_half_space(parsed, wavelengths, extrapolate) -> bool:
-    """True when the substrate is a half-space that absorbs somewhere in the grid: light entering
-    it never comes out (the colour commands treat it the same way)."""
-    from filmoptic.materials import is_practically_transparent
-
-    substrate = parsed.substrate
-    if substrate.thickness_nm is not None:
-        return False
-    return not is_practically_transparent(substrate.material.nk(wavelengths, extrapolate=extrapolate))
 
 
 def _title(parsed, angle, polarization, reverse) -> str:

@@ -17,7 +17,13 @@ from filmoptic.cli._common import (
     save_plot,
     user_errors,
 )
-from filmoptic.cli.color import caution_if_dark, illuminant_option, observer_option
+from filmoptic.cli.color import (
+    ABSORBED_T_NOTE,
+    OUT_OF_GAMUT_NOTE,
+    caution_if_dark,
+    illuminant_option,
+    observer_option,
+)
 
 __all__ = ["sweep"]
 
@@ -176,10 +182,9 @@ def sweep(stack, range_text, illuminant, observer, angle, ambient, chart_path, e
         print_table(["nm", "R L*", "R a*", "R b*", "R sRGB", "T L*", "T a*", "T b*", "T sRGB",
                      "T lum %", "R lum %"], rows, title=title)
         if not result.transmission_exits:
-            click.echo("T: light entering the substrate, which absorbs it (an opaque half-space); "
-                       "only the reflected colour is seen.")
+            click.echo(ABSORBED_T_NOTE)
         if not (np.all(result.reflected.in_gamut) and np.all(result.transmitted.in_gamut)):
-            click.echo("* outside the sRGB gamut: shown with reduced chroma at the same lightness and hue.")
+            click.echo(OUT_OF_GAMUT_NOTE)
 
     if chart_path and not as_json:
         click.echo(f"Chart written to {chart_path}")

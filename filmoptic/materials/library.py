@@ -17,12 +17,13 @@ import difflib
 import functools
 import os
 import re
+from dataclasses import replace
 from pathlib import Path
 
 from filmoptic.errors import DataFileError, UnknownMaterialError
 
 from .base import KINDS, MaterialInfo
-from .tables import TabulatedMaterial, _cached, header_range, read_header
+from .tables import TabulatedMaterial, header_range, load_nk_file, read_header
 
 __all__ = ["get_material", "list_materials", "material_names", "library_folders", "ENV_VAR"]
 
@@ -78,7 +79,7 @@ def _info_from_file(path: Path, source: str) -> MaterialInfo:
     wl_range = header_range(header)
     if wl_range is None:
         # A user's file without range_nm: the rows tell (parsing it once here is fine).
-        wl_range = _cached(str(path.resolve()), path.stat().st_mtime_ns, path.stat().st_size).wavelength_range_nm
+        wl_range = load_nk_file(path).wavelength_range_nm
     aliases = tuple(a.strip() for a in header.get("aliases", "").split(",") if a.strip())
     return MaterialInfo(
         name=name, dataset=dataset, default=header.get("default", "").lower() in ("yes", "true", "1"),
@@ -104,7 +105,7 @@ def _build_index(shipped: str, user: str, stamp: int):
             name, datasets, user_default = entries.get(key, (info.name, {}, None))
             ds_key = info.dataset.lower()
             if ds_key in datasets and datasets[ds_key].source == "shipped" and source == "user":
-                info = _replace(info, overrides=True, default=info.default or datasets[ds_key].default)
+                info = replace(info, overrides=True, default=info.default or datasets[ds_key].default)
             datasets[ds_key] = info
             if source == "user" and info.default:
                 user_default = ds_key
@@ -115,7 +116,7 @@ def _build_index(shipped: str, user: str, stamp: int):
             (k for k, v in datasets.items() if v.default and v.source == "shipped"),
             None,
         ) or sorted(datasets)[0]
-        final = {k: _replace(v, default=(k == default)) for k, v in datasets.items()}
+        final = {k: replace(v, default=(k == default)) for k, v in datasets.items()}
         index[key] = (name, final, default)
     return index
 
@@ -123,12 +124,6 @@ def _build_index(shipped: str, user: str, stamp: int):
 def _natural(text: str) -> list:
     """Sort key that puts 25nm before 117nm."""
     return [(0, int(t), "") if t.isdigit() else (1, 0, t) for t in re.split(r"(\d+)", text) if t]
-
-
-def _replace(info: MaterialInfo, **changes) -> MaterialInfo:
-    from dataclasses import replace
-
-    return replace(info, **changes)
 
 
 def material_names() -> list:
@@ -220,9 +215,7 @@ def get_material(name: str, dataset: str | None = None) -> TabulatedMaterial:
     'metal'
     """
     info = find_dataset(name, dataset)
-    path = Path(info.path)
-    st = path.stat()
-    table = _cached(str(path.resolve()), st.st_mtime_ns, st.st_size)
+    table = load_nk_file(info.path)
     # The cached table is shared; hand out a light copy that knows whether it is the default.
     return _copy_table(table, info)
 
