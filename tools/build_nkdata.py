@@ -141,6 +141,8 @@ SOURCES = [
     # --- substrates
     Source("glass", "Rubin-1985-clear", "glass/misc/soda-lime/Rubin-clear", SUB, "clear soda-lime float (window) glass (dispersion formula)", True, ("Rubin-clear", "clear")),
     Source("glass", "Rubin-1985-lowiron", "glass/misc/soda-lime/Rubin-lowiron", SUB, "low-iron soda-lime float glass (dispersion formula)", False, ("Rubin-lowiron", "low-iron")),
+    Source("glass", "Vogt-2016-703ppm", "glass/misc/soda-lime/Vogt-703ppm", SUB, "soda-lime glass with 703 ppm Fe2O3; with its absorption", False, ("Vogt-703ppm", "iron")),
+    Source("glass", "Vogt-2016-10ppm", "glass/misc/soda-lime/Vogt-10ppm", SUB, "soda-lime glass with 10 ppm Fe2O3; with its absorption", False, ("Vogt-10ppm",)),
     Source("fused-silica", "Malitson-1965", "main/SiO2/Malitson", SUB, "bulk fused silica, 20 °C (dispersion formula)", True),
     Source("sapphire", "Malitson-1972-o", "main/Al2O3/Malitson-o", SUB, "synthetic sapphire, ordinary ray, 20 °C (dispersion formula)", True, ("Malitson-o",)),
     Source("PMMA", "Zhang-2020", f"{PMMA}/Zhang-Tomson", SUB, "commercial PMMA sheet, room temperature", True, ("Zhang-Tomson",)),
