@@ -66,6 +66,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import DataFileError, FilmopticError, WavelengthRangeError
+from .materials.tables import check_wavelength_column
 
 __all__ = [
     "VISIBLE_RANGE_NM",
@@ -297,13 +298,7 @@ def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectru
     val = np.asarray(values, dtype=float)
     if wl[0] > wl[-1]:
         wl, val = wl[::-1].copy(), val[::-1].copy()
-    if np.any(np.diff(wl) <= 0):
-        bad = int(np.argmax(np.diff(wl) <= 0)) + 1
-        raise DataFileError(
-            f"{what} {name}: wavelengths must increase strictly (row {bad + 1}: {wl[bad]:g} nm after {wl[bad - 1]:g} nm)"
-        )
-    if wl[0] <= 0:
-        raise DataFileError(f"{what} {name}: wavelengths must be positive (nm)")
+    check_wavelength_column(wl, f"{what} {name}")
     if wl[-1] < 50:
         raise DataFileError(f"{what} {name}: wavelengths look like µm (largest {wl[-1]:g}); write them in nm")
     if np.any(val < 0):

@@ -105,18 +105,27 @@ class TabulatedMaterial(Material):
         return n_of(wl) + 1j * np.maximum(k_of(wl), 0.0)
 
 
+def check_wavelength_column(wl, label) -> None:
+    """Refuse a wavelength column (nm) that does not increase strictly or is not positive.
+
+    Shared by every reader of user tables (n,k files, illuminant and detector spectra).
+    """
+    if np.any(np.diff(wl) <= 0):
+        i = int(np.argmax(np.diff(wl) <= 0)) + 1
+        raise DataFileError(
+            f"{label}: wavelengths must increase strictly from row to row "
+            f"(row {i + 1}: {wl[i]:g} nm after {wl[i - 1]:g} nm)"
+        )
+    if wl[0] <= 0:
+        raise DataFileError(f"{label}: wavelengths must be positive (nm)")
+
+
 def _check_rows(wl, n, k, label):
     if wl.ndim != 1 or not (wl.shape == n.shape == k.shape) or wl.size == 0:
         raise DataFileError(f"{label}: the table needs rows of wavelength_nm, n and k")
     if not (np.all(np.isfinite(wl)) and np.all(np.isfinite(n)) and np.all(np.isfinite(k))):
         raise DataFileError(f"{label}: the table contains values that are not finite numbers")
-    if np.any(np.diff(wl) <= 0):
-        i = int(np.argmax(np.diff(wl) <= 0)) + 1
-        raise DataFileError(
-            f"{label}: wavelengths must increase from row to row (row {i + 1}: {wl[i]:g} nm after {wl[i - 1]:g} nm)"
-        )
-    if wl[0] <= 0:
-        raise DataFileError(f"{label}: wavelengths must be positive (nm)")
+    check_wavelength_column(wl, label)
     if np.any(n <= 0):
         raise DataFileError(f"{label}: n must be positive (found {n.min():g})")
     if np.any(k < 0):
