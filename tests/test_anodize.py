@@ -283,3 +283,19 @@ def test_sweep_and_solve_read_in_volts(run_cli):
     assert_user_error(run_cli(["sweep", "TiO2 ? / Ti", "--volts", "0:10:5"]), "growth law")
     assert_user_error(run_cli(["solve", "TiO2 ? / Ti", "--hex", "#3d64ab", "--volts", "0:10", "--range", "0:50",
                                "--anodize", "Ti"]), "not both")
+
+
+def test_demo_part_writes_chart_and_table(tmp_path):
+    from filmoptic.demo import anodize as demo_anodize
+    from filmoptic.demo import scenario as sc
+
+    said = []
+    demo_anodize.run(tmp_path, said.append)
+    for name in ("anodize_titanium.png", "anodize_titanium.pdf", "anodize_titanium.csv"):
+        assert (tmp_path / name).stat().st_size > 0
+    lines = (tmp_path / "anodize_titanium.csv").read_text().splitlines()
+    start, stop, step = sc.ANODIZE_VOLTS
+    assert len(lines) == 1 + int(round((stop - start) / step)) + 1
+    text = "\n".join(said)
+    assert sc.ANODIZE_LOGO_HEX in text and "order 1" in text
+    assert text.count("Caution") == 1
