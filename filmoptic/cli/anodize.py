@@ -21,7 +21,8 @@ from filmoptic.cli._common import (
 )
 from filmoptic.cli.color import OUT_OF_GAMUT_NOTE, illuminant_option, observer_option
 
-__all__ = ["anodize", "law_options", "law_from_options", "DEFAULT_VOLTS"]
+__all__ = ["anodize", "law_options", "law_from_options", "volts_from_option", "lab_cells", "pick_mode",
+           "DEFAULT_VOLTS"]
 
 #: Voltages charted (and searched) unless --volts says otherwise: the span bench power supplies
 #: for colour anodising cover.
@@ -65,8 +66,35 @@ def law_from_options(law_metal, nm_per_volt, offset_nm):
     return None
 
 
-def _lab_cells(lab):
+def volts_from_option(volts_text, range_text, law, need_step):
+    """The voltages of --volts (a grid with ``need_step``, else START and STOP), checked against
+    --range and the growth law; None when --volts was not given."""
+    from filmoptic.errors import FilmopticError
+    from filmoptic.units import inclusive_grid, parse_volts_range
+
+    if volts_text is None:
+        return None
+    if range_text is not None:
+        raise FilmopticError("give either --range (thicknesses) or --volts (voltages), not both")
+    if law is None:
+        raise FilmopticError("--volts needs a growth law: add --anodize METAL (Ti, Nb, Ta, Al, Zr) or --nm-per-volt K")
+    span = parse_volts_range(volts_text, "--volts", need_step=need_step)
+    return inclusive_grid(*span, "--volts") if need_step else span[:2]
+
+
+def lab_cells(lab):
+    """L*, a*, b* as table cells (shared with heat-tint)."""
     return [f"{float(lab[0]):.1f}", f"{float(lab[1]):+.1f}", f"{float(lab[2]):+.1f}"]
+
+
+def pick_mode(at_text, hex_, lab):
+    """Which of --at, --hex and --lab was given (None for a chart); refuses more than one."""
+    from filmoptic.errors import FilmopticError
+
+    modes = [name for name, given in (("--at", at_text), ("--hex", hex_), ("--lab", lab)) if given]
+    if len(modes) > 1:
+        raise FilmopticError(f"give one of --at, --hex and --lab, not {' and '.join(modes)}")
+    return modes[0] if modes else None
 
 
 def _rows_json(chart, idx=None):
@@ -162,10 +190,7 @@ def anodize(metal, volts_text, at_text, hex_, lab, max_delta_e, nm_per_volt, off
     with user_errors():
         if chart_path:
             check_plot_path(chart_path)
-        modes = [name for name, given in (("--at", at_text), ("--hex", hex_), ("--lab", lab)) if given]
-        if len(modes) > 1:
-            raise FilmopticError(f"give one of --at, --hex and --lab, not {' and '.join(modes)}")
-        mode = modes[0] if modes else None
+        mode = pick_mode(at_text, hex_, lab)
         law = growth_law(metal, nm_per_volt, offset_nm)
         key, _ = split_metal(metal, known_only=False)
         if key not in GROWTH_LAWS and not oxide:
@@ -226,7 +251,7 @@ def anodize(metal, volts_text, at_text, hex_, lab, max_delta_e, nm_per_volt, off
             title = (f"Voltages that give {wanted} on anodised {key} ({law.formula()}), ΔE00 ≤ {max_delta_e:g}, "
                      f"{span[0]:g}–{span[1]:g} V, illuminant {label}")
             rows = [[m.order, f"{m.volts:.1f}", f"{m.low_volts:.1f}", f"{m.high_volts:.1f}", f"{m.thickness_nm:.1f}",
-                     f"{m.delta_E00:.2f}", *_lab_cells(m.Lab), m.hex] for m in matches]
+                     f"{m.delta_E00:.2f}", *lab_cells(m.Lab), m.hex] for m in matches]
             print_table(["order", "V", "low V", "high V", "nm", "ΔE00", "L*", "a*", "b*", "sRGB"], rows, title=title)
             if len(matches) > 1:
                 click.echo("The colour comes round again at higher voltage (interference orders): every one is listed.")
@@ -237,7 +262,7 @@ def anodize(metal, volts_text, at_text, hex_, lab, max_delta_e, nm_per_volt, off
                        "angle_deg": angle, "rows": _rows_json(shown)})
         else:
             film = shown.film
-            rows = [[f"{v:g}", f"{d:.1f}", *_lab_cells(film.colours.Lab[i]),
+            rows = [[f"{v:g}", f"{d:.1f}", *lab_cells(film.colours.Lab[i]),
                      str(film.colours.hex[i]) + ("" if film.colours.in_gamut[i] else " *"), percent(film.luminous_R[i], 1)]
                     for i, (v, d) in enumerate(zip(shown.volts, film.thickness_nm))]
             title = (f"Anodised {key}: {law.formula()}; seen in reflection, illuminant {label}, {obs}° observer, "

@@ -15,6 +15,7 @@ from filmoptic.cli._common import (
     save_plot,
     user_errors,
 )
+from filmoptic.cli.anodize import lab_cells, pick_mode
 from filmoptic.cli.color import OUT_OF_GAMUT_NOTE, illuminant_option, observer_option
 
 __all__ = ["heat_tint", "HEAT_CAUTION"]
@@ -27,10 +28,6 @@ HEAT_CAUTION = (
 )
 NO_TEMPERATURE = ("Only thickness is computed: the temperature and time that grow it depend on the "
                   "alloy, the atmosphere and the heating, and filmoptic does not estimate them.")
-
-
-def _lab_cells(lab):
-    return [f"{float(lab[0]):.1f}", f"{float(lab[1]):+.1f}", f"{float(lab[2]):+.1f}"]
 
 
 @click.command("heat-tint")
@@ -92,10 +89,7 @@ def heat_tint(model_name, range_text, at_text, hex_, lab, max_delta_e, oxide, me
     with user_errors():
         if chart_path:
             check_plot_path(chart_path)
-        modes = [name for name, given in (("--at", at_text), ("--hex", hex_), ("--lab", lab)) if given]
-        if len(modes) > 1:
-            raise FilmopticError(f"give one of --at, --hex and --lab, not {' and '.join(modes)}")
-        mode = modes[0] if modes else None
+        mode = pick_mode(at_text, hex_, lab)
         inverse = mode in ("--hex", "--lab")
         obs = check_observer(observer)
         label = check_illuminant(illuminant)
@@ -148,7 +142,7 @@ def heat_tint(model_name, range_text, at_text, hex_, lab, max_delta_e, oxide, me
         else:
             wanted = hex_ or "L*a*b* " + ",".join(f"{v:g}" for v in target)
             rows = [[m.order, f"{m.thickness_nm:.1f}", f"{m.low_nm:.1f}–{m.high_nm:.1f}", f"{m.delta_E00:.2f}",
-                     *_lab_cells(m.Lab), m.hex] for m in found.matches]
+                     *lab_cells(m.Lab), m.hex] for m in found.matches]
             print_table(["order", "nm", "range nm", "ΔE00", "L*", "a*", "b*", "sRGB"], rows,
                         title=f"Oxide thicknesses that show {wanted} ({model.title}), ΔE00 ≤ {max_delta_e:g}, "
                               f"illuminant {label}")
@@ -167,7 +161,7 @@ def heat_tint(model_name, range_text, at_text, hex_, lab, max_delta_e, oxide, me
                                 for i, d in enumerate(shown.thickness_nm)]})
         else:
             c = shown.colours
-            rows = [[f"{d:g}", *_lab_cells(c.Lab[i]), str(c.hex[i]) + ("" if c.in_gamut[i] else " *"),
+            rows = [[f"{d:g}", *lab_cells(c.Lab[i]), str(c.hex[i]) + ("" if c.in_gamut[i] else " *"),
                      percent(shown.luminous_R[i], 1)] for i, d in enumerate(shown.thickness_nm)]
             print_table(["nm", "L*", "a*", "b*", "sRGB", "R lum %"], rows,
                         title=f"{model.title[0].upper() + model.title[1:]} ({shown.stack_text}), seen in reflection, "

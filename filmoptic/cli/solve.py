@@ -13,7 +13,7 @@ from pathlib import Path
 
 import click
 
-from filmoptic.cli.anodize import law_from_options, law_options
+from filmoptic.cli.anodize import law_from_options, law_options, volts_from_option
 from filmoptic.cli._common import (
     ambient_option,
     angle_option,
@@ -532,16 +532,9 @@ def solve(stack, range_text, step, readings_path, column, out, volts_text, law_m
     with user_errors():
         range_nm = None if range_text is None else parse_range_nm(range_text)[:2]
         law = law_from_options(law_metal, nm_per_volt, offset_nm)
-        if volts_text is not None:
-            from filmoptic.units import parse_volts_range
-
-            if range_text is not None:
-                raise FilmopticError("give either --range (thicknesses) or --volts (voltages), not both")
-            if law is None:
-                raise FilmopticError("--volts needs a growth law: add --anodize METAL (Ti, Nb, Ta, Al, Zr) "
-                                     "or --nm-per-volt K")
-            range_nm = tuple(float(x) for x in law.thickness_nm(parse_volts_range(volts_text, "--volts",
-                                                                                  need_step=False)[:2]))
+        span = volts_from_option(volts_text, range_text, law, need_step=False)
+        if span is not None:
+            range_nm = tuple(float(x) for x in law.thickness_nm(span))
         if law is not None and readings_path is not None:
             raise FilmopticError("--anodize/--nm-per-volt read single solutions in volts; leave them out with --readings")
         common = dict(range_nm=range_nm, step_nm=step, angle_deg=angle, extrapolate=extrapolate, ambient=ambient)

@@ -17,7 +17,7 @@ from filmoptic.cli._common import (
     save_plot,
     user_errors,
 )
-from filmoptic.cli.anodize import law_from_options, law_options
+from filmoptic.cli.anodize import law_from_options, law_options, volts_from_option
 from filmoptic.cli.color import (
     ABSORBED_T_NOTE,
     OUT_OF_GAMUT_NOTE,
@@ -144,7 +144,6 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
     import numpy as np
 
     from filmoptic.colorimetry import check_illuminant, check_observer, colour_sweep, sweep_bounds_nm
-    from filmoptic.errors import FilmopticError
     from filmoptic.stack import parse_stack
     from filmoptic.units import parse_range_nm
 
@@ -158,16 +157,8 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
         parsed = parse_stack(stack, ambient=ambient)
         bounds = sweep_bounds_nm(parsed)
         law = law_from_options(law_metal, nm_per_volt, offset_nm)
-        volts = None
-        if volts_text is not None:
-            from filmoptic.units import inclusive_grid, parse_volts_range
-
-            if range_text is not None:
-                raise FilmopticError("give either --range (thicknesses) or --volts (voltages), not both")
-            if law is None:
-                raise FilmopticError("--volts needs a growth law: add --anodize METAL (Ti, Nb, Ta, Al, Zr) "
-                                     "or --nm-per-volt K")
-            volts = inclusive_grid(*parse_volts_range(volts_text, "--volts"), "--volts")
+        volts = volts_from_option(volts_text, range_text, law, need_step=True)
+        if volts is not None:
             thickness = law.thickness_nm(volts)
         else:
             thickness = _thicknesses(range_text, bounds, parsed.parameters[parsed.thickness_parameters[0]].name)
