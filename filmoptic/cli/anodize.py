@@ -146,8 +146,8 @@ def anodize(metal, volts_text, at_text, hex_, lab, max_delta_e, nm_per_volt, off
         thickness = nm-per-volt × volts + offset
 
     with a default per metal from the electrochemistry literature (Ti 2.0, Nb 2.3, Ta 1.6, Al 1.32,
-    Zr 2.0 nm/V; sources in `python -c "import filmoptic.colouring.anodize as a; help(a)"` and in
-    the JSON), which --nm-per-volt and --offset-nm replace with your bath's numbers. The colour is
+    Zr 2.0 nm/V; each table names its source, and --json gives it as law_source), which
+    --nm-per-volt and --offset-nm replace with your bath's numbers. The colour is
     that of the oxide on the metal seen in reflection: the metal is opaque, so no light passes.
 
     \b
