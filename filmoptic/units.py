@@ -23,6 +23,8 @@ __all__ = [
     "parse_fraction",
     "parse_duration_s",
     "parse_angles_deg",
+    "parse_volts",
+    "parse_volts_range",
 ]
 
 #: Length units accepted everywhere, in nanometres.
@@ -251,3 +253,51 @@ def parse_angles_deg(text: str, what: str = "--angles") -> np.ndarray:
     if np.any(values < 0) or np.any(values >= 90):
         raise FilmopticError(f"{what}: angles of incidence must lie in [0, 90) degrees, got {text!r}")
     return values
+
+
+_VOLT_SUFFIX_RE = re.compile(r"\s*(v|volts?)$", re.IGNORECASE)
+#: Anodising voltages above this are a typo, not a bath (valve-metal films break down far below).
+MAX_VOLTS = 1000.0
+
+
+def parse_volts(text, what: str = "voltage") -> float:
+    """Parse an anodising voltage: ``25``, ``25V``, ``25 V`` or ``25 volts`` (0 to 1000 V).
+
+    Examples
+    --------
+    >>> parse_volts("25 V"), parse_volts("7.5")
+    (25.0, 7.5)
+    """
+    value = parse_number(_VOLT_SUFFIX_RE.sub("", str(text).strip()), what)
+    if not 0 <= value <= MAX_VOLTS:
+        raise FilmopticError(f"{what}: a voltage must lie in 0–{MAX_VOLTS:g} V, got {text!r}")
+    return value
+
+
+def parse_volts_range(text, what: str = "--volts", need_step: bool = True) -> tuple:
+    """Parse ``START:STOP:STEP`` (or ``START:STOP`` without ``need_step``) in volts.
+
+    Examples
+    --------
+    >>> parse_volts_range("10:100:5")
+    (10.0, 100.0, 5.0)
+    >>> parse_volts_range("10V:60V", need_step=False)
+    (10.0, 60.0)
+    """
+    parts = str(text).split(":")
+    if len(parts) not in ((3,) if need_step else (2, 3)):
+        form = "START:STOP:STEP" if need_step else "START:STOP[:STEP]"
+        raise FilmopticError(f"{what}: expected {form} in volts (e.g. 10:100:5), got {text!r}")
+    values = tuple(parse_volts(p, what) for p in parts)
+    if values[1] <= values[0]:
+        raise FilmopticError(f"{what}: need START < STOP, got {text!r}")
+    if len(values) == 3:
+        if values[2] <= 0:
+            raise FilmopticError(f"{what}: the step must be positive, got {text!r}")
+        _grid(*values, what)  # validates the size
+    return values
+
+
+def inclusive_grid(start: float, stop: float, step: float, what: str = "range") -> np.ndarray:
+    """``start`` to ``stop`` in ``step``s (both ends included when the step divides the span)."""
+    return _grid(start, stop, step, what)

@@ -26,6 +26,9 @@ COMMANDS = {
     "compare": ("filmoptic.cli.compare", "compare", "Compare candidate materials for the same target."),
     "rate": ("filmoptic.cli.rate", "rate", "Deposition rate from calibration runs, and time for the next run."),
     "fit": ("filmoptic.cli.fit", "fit", "Fit thickness and optical constants to measured spectra."),
+    "anodize": ("filmoptic.cli.anodize", "anodize", "Colour of anodised Ti, Nb, Ta, Al, Zr against voltage, and back."),
+    "anodise": ("filmoptic.cli.anodize", "anodize", "The same as anodize."),
+    "heat-tint": ("filmoptic.cli.heat_tint", "heat_tint", "Temper and heat-tint colours of steel, stainless steel, copper."),
     "materials": ("filmoptic.cli.materials", "materials", "List the optical-constant library, or show one material."),
     "demo": ("filmoptic.cli.demo", "demo", "Run the built-in worked example and write its tables and plots."),
 }

@@ -14,6 +14,7 @@ SECTIONS = (
     ("colour", "Colours of oxide films and the tint of the semi-mirror"),
     ("thickness", "Thickness to aim for, thickness achieved, time for the next run"),
     ("fit", "Thickness and index from a (synthetic) transmittance curve"),
+    ("anodize", "Colour chart for anodised titanium, and the voltage for a colour"),
 )
 
 

@@ -19,6 +19,9 @@ PLOT_POINTS = 800
 @click.argument("name", required=False, metavar="[NAME]")
 @click.option("--kind", type=click.Choice(["metal", "dielectric", "semiconductor", "substrate", "ambient"]),
               help="List only materials of this kind.")
+@click.option("--for", "use", type=click.Choice(["visible", "colour", "color"], case_sensitive=False),
+              help="List only datasets fit for this use: 'visible' (or 'colour') keeps those that cover "
+                   "380–780 nm, the range every colour and luminous value is computed over.")
 @click.option("--wl", type=WavelengthsType(), default=None, metavar="WL",
               help="Wavelengths (nm) at which to show n and k: START:STOP:STEP or a comma list. "
                    "Default: 300 to 1000 nm in steps of 100 nm, where the data reach.")
@@ -27,14 +30,17 @@ PLOT_POINTS = 800
 @click.option("--range", "plot_range", metavar="START:STOP",
               help="Wavelength range of the plot in nm (default: the data's range within 250–2500 nm).")
 @json_option
-def materials(name, kind, wl, plot_path, plot_range, as_json):
+def materials(name, kind, use, wl, plot_path, plot_range, as_json):
     """List the optical-constant library, or show one material.
 
     Without NAME, every material is listed with its datasets: the default dataset (the one a
     stack uses when it names the material alone) is marked with *, followed by the others,
     which a stack selects as NAME:DATASET, for example Au:Yakubovsky-2017-25nm. Each line gives
-    the kind of material, the wavelength range the data cover and the publication the data come
-    from.
+    the kind of material, the wavelength range the data cover, whether they can serve colour
+    work (colours need data over 380–780 nm; 'no' marks a dataset that stops short) and the
+    publication the data come from. --for visible lists only the datasets that can. Materials
+    that were looked for and not found as citable visible-range data (copper oxides, Cr2O3,
+    ZrN) are named at the end, with what that means for the colours that need them.
 
     With NAME, every dataset of that material is shown with its full citation, the kind of
     sample that was measured, the wavelength range, the licence and n and k at a few
@@ -45,6 +51,7 @@ def materials(name, kind, wl, plot_path, plot_range, as_json):
     Examples:
       filmoptic materials
       filmoptic materials --kind metal
+      filmoptic materials --for visible --kind dielectric
       filmoptic materials TiO2
       filmoptic materials Au --plot gold.png
       filmoptic materials Ti:Werner-2009 --wl 400:800:50 --json
@@ -58,28 +65,39 @@ def materials(name, kind, wl, plot_path, plot_range, as_json):
         if name is None:
             if plot_path:
                 raise click.UsageError("--plot needs a NAME: filmoptic materials NAME --plot FILE")
-            _list(kind, as_json)
+            _list(kind, use, as_json)
         else:
+            if use:
+                raise click.UsageError("--for filters the listing: leave out NAME, or leave out --for")
             _show(name, wl, plot_path, plot_range, as_json)
 
 
-def _list(kind, as_json):
+def _list(kind, use, as_json):
     from filmoptic.materials import list_materials
     from filmoptic.materials.base import format_range_nm
+    from filmoptic.materials.gaps import GAPS, serves_colour
     from filmoptic.materials.library import ENV_VAR, library_folders
 
     infos = [i for i in list_materials() if kind is None or i.kind == kind]
+    if use:
+        infos = [i for i in infos if serves_colour(i.wavelength_range_nm)]
     if as_json:
         emit_json([_info_json(i) for i in infos])
         return
     rows = [
         [i.name, ("* " if i.default else "  ") + i.dataset, i.kind,
-         format_range_nm(i.wavelength_range_nm), i.short_reference]
+         format_range_nm(i.wavelength_range_nm), "yes" if serves_colour(i.wavelength_range_nm) else "no",
+         i.short_reference]
         for i in infos
     ]
-    print_table(["name", "dataset", "kind", "range", "reference"], rows)
+    print_table(["name", "dataset", "kind", "range", "colour", "reference"], rows)
     click.echo("\n* default dataset; select another as NAME:DATASET. `filmoptic materials NAME` shows "
                "full citations and n, k.")
+    click.echo("colour: 'no' = the data stop short of 380–780 nm, so no colour can be computed with them.")
+    if kind is None:
+        click.echo("Not in the library as visible-range data (looked for, none citable found):")
+        for key, note in GAPS.items():
+            click.echo(f"  {_GAP_NAMES.get(key, key)}: {note}")
     folders = library_folders()
     if len(folders) > 1:
         click.echo(f"Your tables from {ENV_VAR}={folders[1][0]} are included.")
@@ -88,7 +106,22 @@ def _list(kind, as_json):
             click.echo(f"Note: {info.label} from {info.path} replaces the shipped dataset of that name.")
 
 
+# How the gap table's keys are written for people.
+_GAP_NAMES = {"cu2o": "Cu2O", "cuo": "CuO", "cr2o3": "Cr2O3", "zrn": "ZrN"}
+
+
+def _colour_fitness(info) -> str:
+    from filmoptic.materials.gaps import gap_note, serves_colour
+
+    note = gap_note(info.name)
+    if serves_colour(info.wavelength_range_nm):
+        return "yes (covers 380–780 nm)"
+    return "no: the data stop short of 380–780 nm" + (f"; {note}" if note else "")
+
+
 def _info_json(info, nk=None):
+    from filmoptic.materials.gaps import gap_note, serves_colour
+
     out = {
         "name": info.name,
         "dataset": info.dataset,
@@ -98,12 +131,16 @@ def _info_json(info, nk=None):
         "citation": info.citation,
         "sample": info.sample,
         "wavelength_nm": list(info.wavelength_range_nm),
+        "serves_colour": serves_colour(info.wavelength_range_nm),
         "licence": info.licence,
         "aliases": list(info.aliases),
         "source": info.source,
         "overrides": info.overrides,
         "path": info.path,
     }
+    note = gap_note(info.name)
+    if note:
+        out["note"] = note
     if nk is not None:
         out["nk"] = nk
     return out
@@ -190,6 +227,7 @@ def _show(name, wl, plot_path, plot_range, as_json):
                 ("kind", info.kind),
                 ("sample", info.sample or "–"),
                 ("range", format_range_nm(info.wavelength_range_nm)),
+                ("colour work", _colour_fitness(info)),
                 ("reference", info.reference or "–"),
                 ("licence", info.licence or "–"),
             ]

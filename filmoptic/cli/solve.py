@@ -13,6 +13,7 @@ from pathlib import Path
 
 import click
 
+from filmoptic.cli.anodize import law_from_options, law_options, volts_from_option
 from filmoptic.cli._common import (
     ambient_option,
     angle_option,
@@ -204,7 +205,15 @@ def _value_headers(condition):
     return [f"{name} (%)", "%/nm"]
 
 
-def print_result(result, show_companions: bool) -> None:
+def _volts_reader(law):
+    """Solution → {"volts", "low_volts", "high_volts"} through the growth law ({} without one)."""
+    if law is None:
+        return lambda s: {}
+    return lambda s: {"volts": float(law.volts(s.thickness_nm)), "low_volts": float(law.volts(s.low_nm)),
+                      "high_volts": float(law.volts(s.high_nm))}
+
+
+def print_result(result, show_companions: bool, law=None) -> None:
     conditions = result.conditions
     click.echo(f"Stack: {result.stack}    unknown: {result.layer}    range {result.range_nm[0]:g}–"
                f"{result.range_nm[1]:g} nm (grid {result.step_nm:.3g} nm)")
@@ -214,7 +223,7 @@ def print_result(result, show_companions: bool) -> None:
             extra = f" ± {c.uncertainty:.3g}" if c.kind == "colour" else f" ± {percent(c.uncertainty)} %"
         target = "" if c.kind == "colour" else f" = {percent(c.value)} %"
         click.echo(f"Condition: {c.label()}{target}{extra}")
-    headers = ["#", "thickness (nm)", "low (nm)", "high (nm)"]
+    headers = ["#", "thickness (nm)", "low (nm)", "high (nm)"] + ([] if law is None else ["volts", "low V", "high V"])
     for c in conditions:
         headers += _value_headers(c)
     if len(conditions) > 1:
@@ -224,6 +233,8 @@ def print_result(result, show_companions: bool) -> None:
     rows = []
     for i, s in enumerate(result.solutions, 1):
         row = [i, f"{s.thickness_nm:.2f}", f"{s.low_nm:.2f}", f"{s.high_nm:.2f}"]
+        if law is not None:
+            row += [f"{float(law.volts(x)):.2f}" for x in (s.thickness_nm, s.low_nm, s.high_nm)]
         for c, v, sl in zip(conditions, s.values, s.slopes_per_nm):
             de = None
             if c.kind == "colour":
@@ -247,6 +258,8 @@ def print_result(result, show_companions: bool) -> None:
         click.echo("Several thicknesses meet the condition (interference orders); the thinnest is listed first.")
     elif not exact:
         click.echo("Best matches (local minima of the misfit), best first.")
+    if law is not None:
+        click.echo(f"Volts from the growth law {law.describe()} ({law.source}).")
     if show_companions:
         click.echo("Tv, Rv: luminous transmittance and reflectance (ISO 9050, D65); 'back' is seen through "
                    "the substrate; a*b* is the CIELAB tint (D65).")
@@ -455,11 +468,15 @@ def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
 @click.option("--out", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
               help="Where --readings writes its CSV: the input columns plus thickness_nm, low_nm, high_nm, "
                    "solutions and status (default: standard output).")
+@click.option("--volts", "volts_text", metavar="START:STOP",
+              help="Search anodising voltages instead of --range (with --anodize METAL or --nm-per-volt).")
+@law_options
 @angle_option
 @ambient_option
 @extrapolate_option
 @json_option
-def solve(stack, range_text, step, readings_path, column, out, angle, ambient, extrapolate, as_json, **opts):
+def solve(stack, range_text, step, readings_path, column, out, volts_text, law_metal, nm_per_volt, offset_nm,
+          angle, ambient, extrapolate, as_json, **opts):
     """Find the thickness that meets a target or explains a reading.
 
     STACK has exactly one unknown thickness written '?', for example "Ti ? / glass 4mm". Give one
@@ -497,6 +514,13 @@ def solve(stack, range_text, step, readings_path, column, out, angle, ambient, e
         filmoptic solve "Ti ? / glass 4mm" --readings parts.csv \\
             --column lux_ratio --source A --out thick.csv
 
+    For an anodised layer, --anodize METAL (Ti, Nb, Ta, Al, Zr; or your own --nm-per-volt and
+    --offset-nm) reads every solution in volts as well (thickness = nm-per-volt × volts + offset),
+    and --volts START:STOP searches that span of voltages instead of --range:
+
+    \b
+        filmoptic solve "TiO2 ? / Ti" --hex "#3d64ab" --anodize Ti --volts 0:100
+
     Computed values are no substitute for certified measurement; a computed filter is no eye
     protection for sun, welding or laser viewing.
     """
@@ -507,6 +531,12 @@ def solve(stack, range_text, step, readings_path, column, out, angle, ambient, e
 
     with user_errors():
         range_nm = None if range_text is None else parse_range_nm(range_text)[:2]
+        law = law_from_options(law_metal, nm_per_volt, offset_nm)
+        span = volts_from_option(volts_text, range_text, law, need_step=False)
+        if span is not None:
+            range_nm = tuple(float(x) for x in law.thickness_nm(span))
+        if law is not None and readings_path is not None:
+            raise FilmopticError("--anodize/--nm-per-volt read single solutions in volts; leave them out with --readings")
         common = dict(range_nm=range_nm, step_nm=step, angle_deg=angle, extrapolate=extrapolate, ambient=ambient)
         if readings_path is not None:
             if opts.get("reading") is not None:
@@ -523,8 +553,11 @@ def solve(stack, range_text, step, readings_path, column, out, angle, ambient, e
         raise TargetError(result.message)
     if needs_eye_caution(conditions, result.solutions):
         echo_caution(EYE_CAUTION)
+    volts_of = _volts_reader(law)
     if as_json:
         emit_json({
+            **({} if law is None else {"nm_per_volt": law.nm_per_volt, "offset_nm": law.offset_nm,
+                                       "law_source": law.source}),
             "stack": result.stack,
             "layer": result.layer,
             "condition": condition_json(conditions[0]),
@@ -532,10 +565,10 @@ def solve(stack, range_text, step, readings_path, column, out, angle, ambient, e
             "range_nm": result.range_nm,
             "step_nm": result.step_nm,
             "message": result.message,
-            "solutions": result.solutions,
+            "solutions": [{**to_jsonable(s), **volts_of(s)} for s in result.solutions],
         })
         return
-    print_result(result, show_companions=_free_layer_kind(parsed) == "metal")
+    print_result(result, show_companions=_free_layer_kind(parsed) == "metal", law=law)
 
 
 def _free_layer_kind(stack) -> str:

@@ -17,6 +17,7 @@ from filmoptic.cli._common import (
     save_plot,
     user_errors,
 )
+from filmoptic.cli.anodize import law_from_options, law_options, volts_from_option
 from filmoptic.cli.color import (
     ABSORBED_T_NOTE,
     OUT_OF_GAMUT_NOTE,
@@ -89,6 +90,12 @@ def _lab_text(lab) -> list[str]:
     help="Thicknesses of the unknown layer in nm, e.g. 0:250:1 (both ends included). Needed for "
          "a layer written '?'; a layer written LOW..HIGH sweeps that range without it.",
 )
+@click.option(
+    "--volts", "volts_text", metavar="START:STOP:STEP",
+    help="Sweep anodising voltages instead of thicknesses (with --anodize METAL or --nm-per-volt): "
+         "each voltage becomes a thickness through the growth law.",
+)
+@law_options
 @illuminant_option
 @observer_option
 @angle_option
@@ -99,7 +106,8 @@ def _lab_text(lab) -> list[str]:
 )
 @extrapolate_option
 @json_option
-def sweep(stack, range_text, illuminant, observer, angle, ambient, chart_path, extrapolate, as_json):
+def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illuminant, observer, angle, ambient,
+          chart_path, extrapolate, as_json):
     """Colour and luminous values of STACK over a range of one layer's thickness.
 
     STACK has exactly one unknown, the thickness of the layer to vary, written '?' (then
@@ -110,6 +118,13 @@ def sweep(stack, range_text, illuminant, observer, angle, ambient, chart_path, e
         filmoptic sweep "TiO2 ? / Ti" --range 0:250:1 --chart ti-oxide.pdf
         filmoptic sweep "SiO2 ? / Si" --range 0:600:5 --observer 10
         filmoptic sweep "TiO2 10..50nm / Ti"
+        filmoptic sweep "TiO2 ? / Ti" --anodize Ti --volts 0:100:1 --chart ti-volts.pdf
+
+    For an anodised layer, --volts START:STOP:STEP with --anodize METAL (Ti, Nb, Ta, Al, Zr; or
+    your own --nm-per-volt and --offset-nm) sweeps the anodising voltage: each voltage becomes a
+    thickness through thickness = nm-per-volt × volts + offset, the table and --json gain the
+    volts, and the chart's axis reads in volts. --anodize alone adds the volts to a thickness
+    sweep.
 
     For every thickness the command reports the colour reflected from the coated side and the
     transmitted colour (CIELAB L*, a*, b* and the sRGB colour a screen would show; '*' marks a
@@ -122,7 +137,7 @@ def sweep(stack, range_text, illuminant, observer, angle, ambient, chart_path, e
     of the reflected colour in the a*b* plane with thicknesses marked. Printed and on-screen colours
     depend on the device; judge against real samples.
 
-    With --json: thickness_nm, luminous_T, luminous_R (fractions), reflected_Lab, reflected_hex,
+    With --json: thickness_nm (and volts with a growth law), luminous_T, luminous_R (fractions), reflected_Lab, reflected_hex,
     reflected_in_gamut, transmitted_Lab, transmitted_hex, transmitted_in_gamut, one entry per
     thickness.
     """
@@ -141,7 +156,14 @@ def sweep(stack, range_text, illuminant, observer, angle, ambient, chart_path, e
         label = check_illuminant(illuminant)
         parsed = parse_stack(stack, ambient=ambient)
         bounds = sweep_bounds_nm(parsed)
-        thickness = _thicknesses(range_text, bounds, parsed.parameters[parsed.thickness_parameters[0]].name)
+        law = law_from_options(law_metal, nm_per_volt, offset_nm)
+        volts = volts_from_option(volts_text, range_text, law, need_step=True)
+        if volts is not None:
+            thickness = law.thickness_nm(volts)
+        else:
+            thickness = _thicknesses(range_text, bounds, parsed.parameters[parsed.thickness_parameters[0]].name)
+            if law is not None:
+                volts = law.volts(thickness)
         options = dict(illuminant=illuminant, observer=obs, angle_deg=angle, extrapolate=extrapolate)
         if thickness.size > _PROGRESS_FROM:
             with progress(thickness.size, "sweeping") as advance:
@@ -154,10 +176,17 @@ def sweep(stack, range_text, illuminant, observer, angle, ambient, chart_path, e
         from filmoptic.plots.chart import sweep_chart
 
         with user_errors():
-            save_plot(sweep_chart(result), chart_path)
+            if volts is None:
+                save_plot(sweep_chart(result), chart_path)
+            else:
+                save_plot(sweep_chart(result, axis=(volts, f"anodising voltage (V), {law.describe()}"),
+                                      title=f"Colour versus anodising voltage: {result.stack_text}"),
+                          chart_path)
 
     if as_json:
         emit_json({
+            **({} if volts is None else {"volts": volts, "nm_per_volt": law.nm_per_volt,
+                                         "offset_nm": law.offset_nm}),
             "thickness_nm": result.thickness_nm,
             "luminous_T": result.luminous_T,
             "luminous_R": result.luminous_R,
@@ -173,13 +202,13 @@ def sweep(stack, range_text, illuminant, observer, angle, ambient, chart_path, e
         for i, d in enumerate(result.thickness_nm):
             r, t = result.reflected[i], result.transmitted[i]
             rows.append(
-                [f"{d:g}"] + _lab_text(r.Lab) + [r.hex + ("" if r.in_gamut else " *")]
+                ([] if volts is None else [f"{volts[i]:.4g}"]) + [f"{d:g}"] + _lab_text(r.Lab) + [r.hex + ("" if r.in_gamut else " *")]
                 + _lab_text(t.Lab) + [t.hex + ("" if t.in_gamut else " *")]
                 + [percent(result.luminous_T[i]), percent(result.luminous_R[i])]
             )
         title = (f"Colour of {stack!r} versus thickness — illuminant {label}, {obs}° observer, "
                  f"{angle:g}° incidence, ambient {ambient}")
-        print_table(["nm", "R L*", "R a*", "R b*", "R sRGB", "T L*", "T a*", "T b*", "T sRGB",
+        print_table(([] if volts is None else ["V"]) + ["nm", "R L*", "R a*", "R b*", "R sRGB", "T L*", "T a*", "T b*", "T sRGB",
                      "T lum %", "R lum %"], rows, title=title)
         if not result.transmission_exits:
             click.echo(ABSORBED_T_NOTE)

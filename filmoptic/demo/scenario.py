@@ -54,3 +54,15 @@ NEXT_RUN_MATERIAL = "Ti"            # the next run makes the cabinet semi-mirror
 
 # Job 2 (continued): thicknesses charted for the silicon offcuts (added for the colour demo).
 OXIDE_ON_SILICON_RANGE_NM = (0.0, 600.0, 2.0)
+
+# Job 4 (added for the anodising demo): a run of anodised titanium bookmarks for a museum shop.
+# The studio charts its phosphate bath from 10 to 110 V, checks the colour its bath gives at the
+# voltage it usually runs for blue, and asks which voltages give the shop's logo colour. The
+# bath's law is the studio's own calibration, written into its process notes (invented).
+ANODIZE_METAL = "Ti"
+ANODIZE_VOLTS = (10.0, 110.0, 5.0)       # the chart's voltages: start, stop, step
+ANODIZE_NM_PER_VOLT = 2.1                 # invented: the studio's bath, from its own test pieces
+ANODIZE_OFFSET_NM = 3.0                   # invented: air-formed oxide before anodising
+ANODIZE_USUAL_VOLTS = 24.0                # invented: where the studio usually runs for blue
+ANODIZE_LOGO_HEX = "#c45ab9"              # invented: the museum shop's magenta logo colour
+ANODIZE_MAX_DELTA_E = 6.0                 # invented: the shop's tolerance for the logo colour

@@ -167,6 +167,11 @@ def find_dataset(name: str, dataset: str | None = None) -> MaterialInfo:
     index = _index()
     entry = index.get(name.strip().lower())
     if entry is None:
+        from .gaps import gap_note
+
+        missing = gap_note(name)
+        if missing:
+            raise UnknownMaterialError(f"{name.strip()} is not in the library: {missing}")
         names = [e[0] for e in index.values()]
         close = suggest(name.strip(), names)
         hint = f": did you mean {', '.join(close)}?" if close else "; `filmoptic materials` lists the library"

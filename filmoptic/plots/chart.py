@@ -68,7 +68,7 @@ def _listed(rgb):
     return ListedColormap(np.clip(rgb, 0, 1))
 
 
-def sweep_chart(sweep, *, title: str | None = None):
+def sweep_chart(sweep, *, title: str | None = None, axis=None):
     """Draw the chart of a :class:`~filmoptic.colorimetry.ColourSweep`.
 
     Parameters
@@ -76,13 +76,17 @@ def sweep_chart(sweep, *, title: str | None = None):
     sweep : ColourSweep
     title : str, optional
         Heading; defaults to the stack.
+    axis : (array_like, str), optional
+        Other values to lay the chart out along instead of the thickness, one per thickness and
+        increasing with it, and the axis label (e.g. anodising volts).
 
     Returns
     -------
     matplotlib.figure.Figure
         A4 landscape.
     """
-    d = np.asarray(sweep.thickness_nm, dtype=float)
+    d = np.asarray(sweep.thickness_nm if axis is None else axis[0], dtype=float)
+    x_label = "layer thickness (nm)" if axis is None else axis[1]
     ticks = thickness_ticks(float(d.min()), float(d.max()), target=12)
     minor = thickness_ticks(float(d.min()), float(d.max()), target=50)
 
@@ -112,7 +116,7 @@ def sweep_chart(sweep, *, title: str | None = None):
     ax_l.plot(d, 100 * np.asarray(sweep.luminous_R), color="#c0392b", lw=1.8, label="luminous R")
     ax_l.set_ylim(0, 100)
     ax_l.set_ylabel("luminous value (%)", fontsize=10)
-    ax_l.set_xlabel("layer thickness (nm)", fontsize=10)
+    ax_l.set_xlabel(x_label, fontsize=10)
     ax_l.set_xticks(ticks)
     ax_l.set_xticks(minor, minor=True)
     ax_l.tick_params(labelsize=8)
@@ -120,7 +124,7 @@ def sweep_chart(sweep, *, title: str | None = None):
     ax_l.grid(True, which="minor", color="0.92", lw=0.4)
     ax_l.legend(loc="upper right", fontsize=9, framealpha=0.9)
 
-    _ab_path(ax_ab, d, sweep.reflected, ticks)
+    _ab_path(ax_ab, d, sweep.reflected, ticks, "thickness in nm" if axis is None else "volts")
 
     heading = title or f"Colour versus thickness: {sweep.stack_text}"
     fig.text(0.03, 0.955, heading, fontsize=15, fontweight="bold", va="center", family="monospace")
@@ -139,7 +143,7 @@ def sweep_chart(sweep, *, title: str | None = None):
     return fig
 
 
-def _ab_path(ax, d, colours, ticks):
+def _ab_path(ax, d, colours, ticks, unit="thickness in nm"):
     lab = np.asarray(colours.Lab, dtype=float)
     a, b = lab[:, 1], lab[:, 2]
     ax.plot(a, b, color="0.55", lw=0.9, zorder=1)
@@ -160,6 +164,6 @@ def _ab_path(ax, d, colours, ticks):
     ax.set_aspect("equal", adjustable="box")
     ax.set_xlabel("a*  (green − / red +)", fontsize=10)
     ax.set_ylabel("b*  (blue − / yellow +)", fontsize=10)
-    ax.set_title("Reflected colour in the CIELAB a*b* plane\n(numbers: thickness in nm)", fontsize=10)
+    ax.set_title(f"Reflected colour in the CIELAB a*b* plane\n(numbers: {unit})", fontsize=10)
     ax.tick_params(labelsize=8)
     ax.grid(True, color="0.9", lw=0.5)
