@@ -622,7 +622,10 @@ class Monitor:
         est_mid = self.window.estimate(t_mid) if len(self.window) else None
         predicted_mid = self.tracker.thickness_nm if est_mid is None else max(est_mid.thickness_nm, 0.0)
         found = self.tracker.update(filtered, predicted_mid)
-        self.window.add(t_mid, found.thickness_nm)
+        # Near a turning point (or a flat start) a reading hardly tells the thickness: the rate
+        # line then carries on from the steep parts on either side.
+        if not self.model.in_flat_zone(found.thickness_nm):
+            self.window.add(t_mid, found.thickness_nm)
         return self._estimate(t, reading, ratio, status, messages, reference_reading, line)
 
     def restore(self, rows) -> int:

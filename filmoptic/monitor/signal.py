@@ -39,6 +39,7 @@ __all__ = [
     "SignalModel",
     "signal_model",
     "turning_indices",
+    "flat_zones",
     "Branch",
     "BranchTracker",
 ]
@@ -51,6 +52,10 @@ MAX_MODEL_POINTS = 400_000
 #: Smallest swing of the modelled signal (fraction of the reference) between two turning points
 #: that counts: below it an "extremum" is rounding in the far tail of an opaque film.
 TURN_MIN_SWING = 1e-4
+#: Around a turning point (and at the start of a layer whose signal starts flat) the signal hardly
+#: moves with thickness, so a reading there says little about the thickness: the *flat zone* is
+#: where the slope is below this fraction of the steepest slope on the neighbouring branches.
+FLAT_FRACTION = 0.25
 #: How far the monitor models beyond the target, as a multiple of the target thickness (room for
 #: an overshoot, and for following the run past the target with --keep-going).
 RANGE_BEYOND_TARGET = 1.6
@@ -127,6 +132,9 @@ class SignalModel:
         The reading's band (:func:`filmoptic.readings.band_weights`).
     step_nm : float
         Grid step.
+    flat_zones_nm : numpy.ndarray
+        ``(Z, 2)`` thickness intervals around the turning points (and a flat start) where the
+        slope is below :data:`FLAT_FRACTION` of the steepest slope nearby (see :func:`flat_zones`).
     """
 
     thickness_nm: np.ndarray
@@ -143,6 +151,7 @@ class SignalModel:
     wavelength_nm: np.ndarray
     weights: np.ndarray
     step_nm: float
+    flat_zones_nm: np.ndarray
 
     @property
     def range_nm(self) -> tuple:
@@ -187,6 +196,13 @@ class SignalModel:
     def slope_at(self, thickness_nm):
         """Change of the modelled ratio per nm of growth."""
         return np.interp(thickness_nm, self.thickness_nm, self._slope)
+
+    def in_flat_zone(self, thickness_nm: float) -> bool:
+        """Whether a thickness lies where the signal hardly changes with thickness (near a
+        turning point, or a flat start)."""
+        d = float(thickness_nm)
+        zones = self.flat_zones_nm
+        return bool(np.any((zones[:, 0] <= d) & (d <= zones[:, 1]))) if zones.size else False
 
     def branch_of(self, thickness_nm: float) -> int:
         """The branch a thickness lies on (a turning point belongs to the branch it ends)."""
@@ -240,6 +256,45 @@ class SignalModel:
                 if d >= from_nm - 1e-9:
                     return d
         return None
+
+
+def flat_zones(thickness_nm, ratio, bounds, fraction: float = FLAT_FRACTION) -> np.ndarray:
+    """Thickness intervals around each turning point, and at the start when the curve starts
+    flat, where the slope is below ``fraction`` of the steepest slope of the neighbouring branches.
+
+    A transparent layer's signal starts flat and is flat at every quarter wave (Macleod, ch. 3);
+    a metal's starts steep and has no zones.
+
+    Examples
+    --------
+    For cos(πd) the slope π·|sin(πd)| is below a quarter of its peak within asin(0.25)/π = 0.080
+    of each extremum:
+
+    >>> d = np.linspace(0.0, 2.0, 2001)
+    >>> flat_zones(d, np.cos(np.pi * d), np.array([0, 1000, 2000])).round(2).tolist()
+    [[0.0, 0.08], [0.92, 1.08]]
+    """
+    slope = np.abs(np.gradient(ratio, thickness_nm))
+    zones = []
+    last = bounds.size - 1
+    for j in range(last):                      # the start, then every turning point
+        at = int(bounds[j])
+        if j == 0 and at != 0:
+            continue
+        lo_branch = int(bounds[j - 1]) if j > 0 else at
+        hi_branch = int(bounds[j + 1])
+        steepest = float(slope[lo_branch:hi_branch + 1].max())
+        if not steepest > 0:
+            continue
+        steep = slope >= fraction * steepest
+        left = np.flatnonzero(steep[lo_branch:at + 1])
+        right = np.flatnonzero(steep[at:hi_branch + 1])
+        if j == 0 and right.size and right[0] == 0:
+            continue                           # a steep start (a metal): no zone
+        lo = thickness_nm[lo_branch + left[-1]] if (j > 0 and left.size) else thickness_nm[lo_branch]
+        hi = thickness_nm[at + right[0]] if right.size else thickness_nm[hi_branch]
+        zones.append((float(lo), float(hi)))
+    return np.asarray(zones, dtype=float).reshape(-1, 2)
 
 
 def _model_range(stack, layer, range_nm, target_nm):
@@ -345,7 +400,7 @@ def signal_model(stack, source: str = "D65", detector: str = "photopic", referen
         thickness_nm=grid, ratio=ratio, turning_nm=grid[turns], turning_ratio=ratio[turns], bounds=bounds,
         reference_level=float(level), stack=stack.text, layer=layer.text, source=str(source),
         detector=str(detector), reference_kind=reference, wavelength_nm=wl, weights=weights,
-        step_nm=float(grid[1] - grid[0]),
+        step_nm=float(grid[1] - grid[0]), flat_zones_nm=flat_zones(grid, ratio, bounds),
     )
 
 
