@@ -97,9 +97,12 @@ class RateWindow:
     (0.1, 1.0, 11)
     """
 
-    def __init__(self, window_s: float, max_points: int = MAX_POINTS):
+    def __init__(self, window_s: float, max_points: int = MAX_POINTS, min_keep: int = 0):
         self.window_s = float(window_s)
         self.max_points = int(max_points)
+        # Points older than the window are kept while there are no more than this many: after a
+        # pause in the points (a turning point's flat zone) the line still reaches back across it.
+        self.min_keep = int(min_keep)
         self._points = deque()
 
     def __len__(self) -> int:
@@ -108,11 +111,16 @@ class RateWindow:
     def add(self, t_s: float, thickness_nm: float) -> None:
         self._points.append((float(t_s), float(thickness_nm)))
         newest = self._points[-1][0]
-        while self._points and self._points[0][0] < newest - self.window_s:
+        while len(self._points) > self.min_keep and self._points[0][0] < newest - self.window_s:
             self._points.popleft()
 
     def clear(self) -> None:
         self._points.clear()
+
+    @property
+    def span_s(self) -> float:
+        """Time between the oldest and the newest point (0 with fewer than two)."""
+        return self._points[-1][0] - self._points[0][0] if len(self._points) >= 2 else 0.0
 
     def estimate(self, t_now: float) -> RateEstimate | None:
         """The line through the window's points, evaluated at ``t_now`` (None with fewer than

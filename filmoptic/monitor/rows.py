@@ -175,25 +175,22 @@ class RowReader:
             self.has_time = "time" in self.columns
             self.has_reference = "reference" in self.columns
             return None
-        columns = self.columns
-        if columns is None:
-            positional = {1: {"reading": 0}, 2: {"time": 0, "reading": 1},
-                          3: {"time": 0, "reading": 1, "reference": 2}}
+        positional = {1: {"reading": 0}, 2: {"time": 0, "reading": 1}, 3: {"time": 0, "reading": 1, "reference": 2}}
+        if self.columns is None:
             if len(cells) not in positional:
                 return Row(line, None, None, None,
                            f"line {line}: {len(cells)} columns; expected a reading, or a time and a reading "
                            "(and a reference detector's reading)")
-            columns = positional[len(cells)]
-            if self.has_time is None:
-                self.columns = columns
-                self.has_time = "time" in columns
-                self.has_reference = "reference" in columns
-            elif columns != self.columns:
-                return Row(line, None, None, None,
-                           f"line {line}: {len(cells)} columns where earlier rows had {len(self.columns)}")
+            self.columns = positional[len(cells)]
+            self.has_time = "time" in self.columns
+            self.has_reference = "reference" in self.columns
+        columns = self.columns
+        if self.header is None and len(cells) != len(columns):
+            return Row(line, None, None, None,
+                       f"line {line}: {len(cells)} columns where earlier rows had {len(columns)}")
         width = max(columns.values()) + 1
         if len(cells) < width:
-            return Row(line, None, None, None, f"line {line}: {len(cells)} columns, the layout needs {width}")
+            return Row(line, None, None, None, f"line {line}: {len(cells)} columns, the header names {width}")
         t = None
         if "time" in columns:
             try:

@@ -21,7 +21,10 @@ returns an :class:`Estimate` for each:
    start and predicts with the current rate which side of a turning point the film is on.
 4. **Rate.** The Theil–Sen line through the last ``window_s`` seconds of thicknesses
    (:class:`~filmoptic.monitor.rate.RateWindow`) gives the rate and the smoothed thickness now;
-   the time left is (target − thickness)/rate.
+   the time left is (target − thickness)/rate. Near a turning point (its *flat zone*, where a
+   reading hardly tells the thickness) the readings stay out of the line, and the thickness is
+   carried on by the rate of a window :data:`LONG_WINDOW_FACTOR` times longer that reaches back
+   across the zone.
 5. **Target.** Reached when the smoothed thickness reaches the target's thickness.
 
 Everything else the chamber does — a gap in the data, a reading stuck at one value, a signal
@@ -45,7 +48,7 @@ import numpy as np
 
 from filmoptic.errors import FilmopticError
 
-from .rate import MAD_TO_SIGMA, RateWindow
+from .rate import MAD_TO_SIGMA, MIN_POINTS, RateWindow
 from .signal import BranchTracker, SignalModel, signal_model
 
 __all__ = [
@@ -88,6 +91,12 @@ MODEL_TOLERANCE = 0.01
 #: Baseline readings further than this many robust standard deviations from their median are
 #: left out of the reference.
 BASELINE_OUTLIER_SIGMAS = 5.0
+#: Through the flat zone of a turning point the thickness is carried on by the rate of a window
+#: this many times longer than ``window_s`` (the zone can last a minute; a short window's rate,
+#: extrapolated that far, would carry its noise with it).
+LONG_WINDOW_FACTOR = 6.0
+#: Points the long window keeps however old they are, so that its line spans a flat zone.
+LONG_WINDOW_KEEP = 256
 #: Kinds of target.
 TARGET_KINDS = ("thickness", "condition", "ratio", "turning_points")
 
@@ -382,6 +391,8 @@ class Monitor:
         self.warn_before_s = warn_before_s
         self.tracker = BranchTracker(self.model)
         self.window = RateWindow(self.window_s)
+        self.long_window = RateWindow(LONG_WINDOW_FACTOR * self.window_s, min_keep=LONG_WINDOW_KEEP)
+        self._in_flat_zone = False
         self._baseline = []              # (t, reading, reference_reading)
         self._ref_detector_level = None  # reference detector's reading that goes with the reference
         self._recent = deque(maxlen=MEDIAN_READINGS)
@@ -462,9 +473,19 @@ class Monitor:
 
     # -- one reading ----------------------------------------------------------------------------
 
+    def _rate_estimate(self, t):
+        """The rate line at time ``t``: of the recent window, or of the long one while the film is
+        in a flat zone (near a turning point)."""
+        short = self.window
+        # Just after a flat zone the recent window holds too few points for a rate: the long one
+        # reaches back across the zone.
+        settled = len(short) >= 2 * MIN_POINTS and short.span_s >= short.window_s / 2
+        window = self.long_window if (self._in_flat_zone or not settled) and len(self.long_window) else short
+        return window.estimate(t) if len(window) else None
+
     def _estimate(self, t, reading, ratio, status, messages, reference_reading, line):
         tgt = self.target
-        est = self.window.estimate(t) if len(self.window) else None
+        est = self._rate_estimate(t)
         if est is None:
             thickness = self.tracker.thickness_nm
             rate = None
@@ -576,7 +597,7 @@ class Monitor:
             self.counts["bad rows"] += 1
             messages.append("bad row skipped (the reference detector reads no light)")
             return self._hold(t, reading, "bad row", messages, reference_reading, line)
-        est = self.window.estimate(t) if len(self.window) else None
+        est = self._rate_estimate(t)
         predicted = self.tracker.thickness_nm if est is None else max(est.thickness_nm, 0.0)
         expected = float(self.model.ratio_at(predicted))
 
@@ -619,13 +640,15 @@ class Monitor:
         if self._same_raw >= STUCK_READINGS:
             status = "stuck" if status == "ok" else status
 
-        est_mid = self.window.estimate(t_mid) if len(self.window) else None
+        est_mid = self._rate_estimate(t_mid)
         predicted_mid = self.tracker.thickness_nm if est_mid is None else max(est_mid.thickness_nm, 0.0)
         found = self.tracker.update(filtered, predicted_mid)
         # Near a turning point (or a flat start) a reading hardly tells the thickness: the rate
         # line then carries on from the steep parts on either side.
-        if not self.model.in_flat_zone(found.thickness_nm):
+        self._in_flat_zone = self.model.in_flat_zone(found.thickness_nm)
+        if not self._in_flat_zone:
             self.window.add(t_mid, found.thickness_nm)
+            self.long_window.add(t_mid, found.thickness_nm)
         return self._estimate(t, reading, ratio, status, messages, reference_reading, line)
 
     def restore(self, rows) -> int:
