@@ -26,6 +26,7 @@ COMMANDS = {
     "compare": ("filmoptic.cli.compare", "compare", "Compare candidate materials for the same target."),
     "rate": ("filmoptic.cli.rate", "rate", "Deposition rate from calibration runs, and time for the next run."),
     "fit": ("filmoptic.cli.fit", "fit", "Fit thickness and optical constants to measured spectra."),
+    "monitor": ("filmoptic.cli.monitor", "monitor", "Thickness, rate and time to stop from a live light signal."),
     "materials": ("filmoptic.cli.materials", "materials", "List the optical-constant library, or show one material."),
     "demo": ("filmoptic.cli.demo", "demo", "Run the built-in worked example and write its tables and plots."),
 }
@@ -38,7 +39,7 @@ CAUTION = (
 
 
 # Options that name files the command writes. An output never replaces one of the command's inputs.
-OUTPUT_OPTIONS = ("--csv", "--plot", "--swatch", "--chart", "--out")
+OUTPUT_OPTIONS = ("--csv", "--plot", "--swatch", "--chart", "--out", "--log")
 _FILE_IN_TEXT = re.compile(r"file:\s*([^\s,()\[\]]+)", re.IGNORECASE)
 
 
