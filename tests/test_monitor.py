@@ -8,6 +8,7 @@ scenario's invented imperfections.
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
@@ -48,8 +49,16 @@ def tmm_ratio(thickness_nm, wl=LASER_NM):
     return np.array([T(float(d)) for d in np.atleast_1d(thickness_nm)]) / bare
 
 
-def quarter_wave_run(turning_points, *, rate=0.25, interval=0.25, opens=8.0, volts=3.0, noise=0.001, seed=7):
-    """Times, readings and true thicknesses of a TiO2 run read with a laser, past turning point N."""
+@functools.lru_cache(maxsize=None)
+def quarter_wave_run(turning_points=3, *, rate=0.5, interval=0.25, opens=8.0, volts=3.0, noise=0.001, seed=7):
+    """Times, readings and true thicknesses of a TiO2 run read with a laser, past turning point N
+    (the same run, cut short, for every N up to 3)."""
+    if turning_points < 3:
+        t, readings, d = quarter_wave_run(3, rate=rate, interval=interval, opens=opens, volts=volts, noise=noise,
+                                          seed=seed)
+        n = _indices(LASER_NM)[0].real
+        keep = d <= (turning_points + 0.4) * LASER_NM / (4 * n)
+        return t[keep], readings[keep], d[keep]
     n = _indices(LASER_NM)[0].real
     length = opens + (turning_points + 0.4) * LASER_NM / (4 * n) / rate
     t = np.arange(0.0, length, interval)

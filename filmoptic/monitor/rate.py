@@ -16,6 +16,7 @@ Kendall's tau", J. Am. Stat. Assoc. 63, 1379–1389 (1968).
 
 from __future__ import annotations
 
+import functools
 import math
 from collections import deque
 from dataclasses import dataclass
@@ -31,6 +32,12 @@ MAX_POINTS = 64
 MIN_POINTS = 4
 #: Scale factor from the median absolute deviation to a standard deviation for normal noise.
 MAD_TO_SIGMA = 1.4826
+
+
+@functools.lru_cache(maxsize=MAX_POINTS + 1)
+def _pairs(n: int):
+    """Index pairs i < j of n points (cached: a run asks for the same few sizes again and again)."""
+    return np.triu_indices(n, k=1)
 
 
 def theil_sen(t, y) -> tuple:
@@ -51,7 +58,7 @@ def theil_sen(t, y) -> tuple:
     """
     t = np.asarray(t, dtype=float)
     y = np.asarray(y, dtype=float)
-    i, j = np.triu_indices(t.size, k=1)
+    i, j = _pairs(t.size)
     dt = t[j] - t[i]
     ok = dt != 0
     if not np.any(ok):
@@ -104,11 +111,13 @@ class RateWindow:
         # pause in the points (a turning point's flat zone) the line still reaches back across it.
         self.min_keep = int(min_keep)
         self._points = deque()
+        self._fit = None           # the line through the points as they are (until one is added)
 
     def __len__(self) -> int:
         return len(self._points)
 
     def add(self, t_s: float, thickness_nm: float) -> None:
+        self._fit = None
         self._points.append((float(t_s), float(thickness_nm)))
         newest = self._points[-1][0]
         while len(self._points) > self.min_keep and self._points[0][0] < newest - self.window_s:
@@ -116,6 +125,7 @@ class RateWindow:
 
     def clear(self) -> None:
         self._points.clear()
+        self._fit = None
 
     @property
     def span_s(self) -> float:
@@ -128,13 +138,17 @@ class RateWindow:
         n = len(self._points)
         if n < MIN_POINTS:
             return None
-        data = np.asarray(self._points, dtype=float)
-        if n > self.max_points:
-            data = data[np.linspace(0, n - 1, self.max_points).round().astype(int)]
-        # Times relative to now keep the intercept well conditioned.
-        t = data[:, 0] - float(t_now)
-        slope, intercept = theil_sen(t, data[:, 1])
-        if not math.isfinite(slope):
-            return None
-        spread = MAD_TO_SIGMA * float(np.median(np.abs(data[:, 1] - (intercept + slope * t))))
-        return RateEstimate(slope, intercept, int(data.shape[0]), spread, float(t[-1] - t[0]))
+        if self._fit is None:
+            data = np.asarray(self._points, dtype=float)
+            if n > self.max_points:
+                data = data[np.linspace(0, n - 1, self.max_points).round().astype(int)]
+            # Times relative to the newest point keep the intercept well conditioned.
+            origin = float(data[-1, 0])
+            t = data[:, 0] - origin
+            slope, intercept = theil_sen(t, data[:, 1])
+            if not math.isfinite(slope):
+                return None
+            spread = MAD_TO_SIGMA * float(np.median(np.abs(data[:, 1] - (intercept + slope * t))))
+            self._fit = (origin, slope, intercept, int(data.shape[0]), spread, float(t[-1] - t[0]))
+        origin, slope, intercept, points, spread, span = self._fit
+        return RateEstimate(slope, intercept + slope * (float(t_now) - origin), points, spread, span)

@@ -40,6 +40,7 @@ from __future__ import annotations
 import json
 import math
 import os
+import statistics
 import time
 from collections import deque
 from dataclasses import dataclass, field
@@ -137,6 +138,8 @@ class Plan:
     def nm_per_percent(self) -> float:
         """Thickness that one percentage point of signal is worth at the target (inf at a
         turning point, where the signal stands still)."""
+        if self.target.kind == "turning_points":
+            return math.inf
         slope = abs(float(self.model.slope_at(self.target.thickness_nm)))
         return math.inf if slope == 0 else 0.01 / slope
 
@@ -558,7 +561,7 @@ class Monitor:
                 self._notes.append(messages[-1])
                 return self._hold(t, reading, "bad row", messages, reference_reading, line)
             if len(self._intervals) >= 5:
-                usual = float(np.median(self._intervals))
+                usual = statistics.median(self._intervals)
                 self._say(messages, "gap", f"gap of {dt:.1f} s in the data (readings usually {usual:.2g} s apart): "
                           "the rate carries the thickness across it",
                           active=dt > max(GAP_MIN_S, GAP_FACTOR * usual))
@@ -610,7 +613,7 @@ class Monitor:
         self._active.discard("dropout")
 
         status = "ok"
-        noise = (MAD_TO_SIGMA * float(np.median(self._deviations)) if len(self._deviations) >= 5
+        noise = (MAD_TO_SIGMA * statistics.median(self._deviations) if len(self._deviations) >= 5
                  else self._baseline_noise)
         tolerance = max(MODEL_TOLERANCE, 5 * noise)
         low, high = self.tracker.reachable_limits()
@@ -628,8 +631,7 @@ class Monitor:
             status = "beyond model"
 
         self._recent.append((t, ratio))
-        values = np.array([r for _, r in self._recent])
-        filtered = float(np.median(values))
+        filtered = statistics.median(r for _, r in self._recent)
         t_mid = self._recent[len(self._recent) // 2][0]
         deviation = abs(ratio - filtered)
         if deviation > max(OUTLIER_SIGMAS * noise, OUTLIER_FLOOR) and len(self._recent) == MEDIAN_READINGS:
