@@ -55,7 +55,7 @@ import numpy as np
 
 from .errors import DataFileError
 
-__all__ = ["MeasuredSpectrum", "read_spectrum", "QUANTITIES"]
+__all__ = ["MeasuredSpectrum", "read_spectrum", "QUANTITIES", "split_row", "cell_number"]
 
 #: Quantities a measured spectrum can hold.
 QUANTITIES = ("T", "R")
@@ -409,3 +409,31 @@ def read_spectrum(path, quantity: str | None = None) -> MeasuredSpectrum:
         wavelength_nm=unique, values=np.asarray(values, float), quantity=quantity,
         path=path, notes=tuple(notes), sigma=None if sigma is None else np.asarray(sigma, float),
     )
+
+
+def split_row(line: str) -> tuple[list[str], bool]:
+    """The cells of one text row, split as the spectrum reader splits its rows, and whether a
+    decimal comma may be meant (semicolon- and tab-separated rows, as European instruments
+    write them). Other readers of instrument rows (e.g. a live monitor's readings) use it so
+    that every table filmoptic reads follows the same layout rules.
+
+    Examples
+    --------
+    >>> split_row("12.5;0,815")
+    (['12.5', '0,815'], True)
+    >>> split_row("12.5  0.815")
+    (['12.5', '0.815'], False)
+    """
+    sep = _delimiter(line.strip())
+    return _split(line.strip(), sep), sep in (";", "\t")
+
+
+def cell_number(cell: str, decimal_comma: bool = False) -> float | None:
+    """A cell as a number (``nan`` for 'nan'), or None when it is not a number at all.
+
+    Examples
+    --------
+    >>> cell_number("0,815", decimal_comma=True), cell_number("lamp")
+    (0.815, None)
+    """
+    return _to_float(cell.strip(), decimal_comma)

@@ -39,6 +39,14 @@ MODULES = [
     "filmoptic.plots.chart",
     "filmoptic.plots.nk",
     "filmoptic.plots.spectrum",
+    "filmoptic.monitor.signal",
+    "filmoptic.monitor.rate",
+    "filmoptic.monitor.rows",
+    "filmoptic.monitor.sources",
+    "filmoptic.monitor.session",
+    "filmoptic.monitor.plan",
+    "filmoptic.plots.monitor",
+    "filmoptic.demo.monitor",
 ]
 
 

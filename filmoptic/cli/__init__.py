@@ -29,6 +29,7 @@ COMMANDS = {
     "anodize": ("filmoptic.cli.anodize", "anodize", "Colour of anodised Ti, Nb, Ta, Al, Zr against voltage, and back."),
     "anodise": ("filmoptic.cli.anodize", "anodize", "The same as anodize."),
     "heat-tint": ("filmoptic.cli.heat_tint", "heat_tint", "Temper and heat-tint colours of steel, stainless steel, copper."),
+    "monitor": ("filmoptic.cli.monitor", "monitor", "Thickness, rate and time to stop from a live light signal."),
     "materials": ("filmoptic.cli.materials", "materials", "List the optical-constant library, or show one material."),
     "demo": ("filmoptic.cli.demo", "demo", "Run the built-in worked example and write its tables and plots."),
 }
@@ -41,7 +42,7 @@ CAUTION = (
 
 
 # Options that name files the command writes. An output never replaces one of the command's inputs.
-OUTPUT_OPTIONS = ("--csv", "--plot", "--swatch", "--chart", "--out")
+OUTPUT_OPTIONS = ("--csv", "--plot", "--swatch", "--chart", "--out", "--log")
 _FILE_IN_TEXT = re.compile(r"file:\s*([^\s,()\[\]]+)", re.IGNORECASE)
 
 

@@ -15,6 +15,7 @@ SECTIONS = (
     ("thickness", "Thickness to aim for, thickness achieved, time for the next run"),
     ("fit", "Thickness and index from a (synthetic) transmittance curve"),
     ("anodize", "Colour chart for anodised titanium, and the voltage for a colour"),
+    ("monitor", "Stopping a run from a light signal: a replayed (synthetic) semi-mirror run"),
 )
 
 

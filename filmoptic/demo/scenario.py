@@ -66,3 +66,38 @@ ANODIZE_OFFSET_NM = 3.0                   # invented: air-formed oxide before an
 ANODIZE_USUAL_VOLTS = 24.0                # invented: where the studio usually runs for blue
 ANODIZE_LOGO_HEX = "#c45ab9"              # invented: the museum shop's magenta logo colour
 ANODIZE_MAX_DELTA_E = 6.0                 # invented: the shop's tolerance for the logo colour
+# Job 4 (added for the monitor demo): watching the cabinet semi-mirror grow. The studio has no
+# crystal monitor; a green LED and a bare photodiode behind a diffuser (a flat detector) look
+# through the door glass, a second photodiode watches the LED alone, and a small logger writes
+# both every 0.2 s. The run is synthetic: the demo makes it from the forward model with the
+# imperfections below, all invented.
+MONITOR_STACK = LUX_STACK                      # "Ti ? / glass 4mm"
+MONITOR_SOURCE = "led:530/30"
+MONITOR_DETECTOR = "flat"
+MONITOR_TARGET_LUMINOUS_T = MIRROR_TARGET_LUMINOUS_T
+MONITOR_RATE_NM_PER_S = 0.075      # the studio's titanium rate at its usual power (4.5 nm/min)
+MONITOR_SHUTTER_OPENS_S = 12.0     # the shutter stays shut for the first 12 s (the baseline is 5 s)
+MONITOR_INTERVAL_S = 0.2           # the logger's sampling interval
+MONITOR_LENGTH_S = 170.0           # how long the recorded run goes on
+MONITOR_COUNTS = 41250.0           # raw counts through the uncoated door glass
+MONITOR_REFERENCE_COUNTS = 20480.0 # raw counts of the photodiode that watches the LED alone
+MONITOR_DARK_COUNTS = 310.0        # counts with the LED off
+MONITOR_NOISE = 0.002              # relative noise of each reading (standard deviation)
+MONITOR_DRIFT_PER_MIN = -0.004     # the LED dims by 0.4 % a minute as it warms
+MONITOR_OUTLIER_AT_S = 61.0        # one spark: a reading 25 % too high
+MONITOR_OUTLIER_FACTOR = 1.25
+MONITOR_DROPOUT_S = (84.0, 84.6)   # a loose connector: dark readings for 0.6 s
+MONITOR_SEED = 20261203
+
+# The same studio's quarter-wave job: TiO2 on a glass witness, watched with a red laser pointer
+# and the photodiode; the layer is a quarter wave at 633 nm, so the run stops at the first turning
+# point of the signal (invented numbers, as above).
+MONITOR_QW_STACK = "TiO2 ? / glass 1mm"
+MONITOR_QW_SOURCE = "laser:633"
+MONITOR_QW_DETECTOR = "flat"
+MONITOR_QW_TURNING_POINTS = 1
+MONITOR_QW_RATE_NM_PER_S = 0.25
+MONITOR_QW_SHUTTER_OPENS_S = 8.0
+MONITOR_QW_INTERVAL_S = 0.25
+MONITOR_QW_COUNTS = 3.0            # volts from the photodiode amplifier through the bare witness
+MONITOR_QW_NOISE = 0.001
