@@ -66,7 +66,8 @@ ANODIZE_OFFSET_NM = 3.0                   # invented: air-formed oxide before an
 ANODIZE_USUAL_VOLTS = 24.0                # invented: where the studio usually runs for blue
 ANODIZE_LOGO_HEX = "#c45ab9"              # invented: the museum shop's magenta logo colour
 ANODIZE_MAX_DELTA_E = 6.0                 # invented: the shop's tolerance for the logo colour
-# Job 4 (added for the monitor demo): watching the cabinet semi-mirror grow. The studio has no
+
+# Job 5 (added for the monitor demo): watching the cabinet semi-mirror grow. The studio has no
 # crystal monitor; a green LED and a bare photodiode behind a diffuser (a flat detector) look
 # through the door glass, a second photodiode watches the LED alone, and a small logger writes
 # both every 0.2 s. The run is synthetic: the demo makes it from the forward model with the
