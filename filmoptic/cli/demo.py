@@ -14,6 +14,7 @@ SECTIONS = (
     ("colour", "Colours of oxide films and the tint of the semi-mirror"),
     ("thickness", "Thickness to aim for, thickness achieved, time for the next run"),
     ("fit", "Thickness and index from a (synthetic) transmittance curve"),
+    ("map", "Thickness map of the door glass from a (synthetic) light-box photo"),
 )
 
 
