@@ -25,7 +25,7 @@ def test_help_imports_no_heavy_library():
     assert out.stdout.strip() == "[]", out.stdout
 
 
-@pytest.mark.parametrize("command", ["spectrum", "color", "sweep", "solve", "compare", "rate", "fit", "materials", "demo"])
+@pytest.mark.parametrize("command", ["spectrum", "color", "sweep", "solve", "compare", "rate", "fit", "map", "materials", "demo"])
 def test_every_command_has_help(run_cli, command):
     result = run_cli([command, "--help"])
     assert result.exit_code == 0, result.stderr

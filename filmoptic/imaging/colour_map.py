@@ -314,13 +314,13 @@ def colour_cells(stack, photo, grid, *, flat=None, dark=None, mask=None, white=N
     gains = None
     notes = [COLORIMETER_NOTE]
     if white is not None:
-        ref = rectangle_statistics(photo, white, flat=flat, dark=dark).mean[0, 0]
+        ref = rectangle_statistics(photo, white, flat=flat, dark=dark, channels="rgb").mean[0, 0]
         if not np.all(ref > 0):
             raise FilmopticError("the white rectangle has no signal in some colour channel")
         gains = tuple(float(v) for v in 1.0 / ref)
         reference = "white"
     elif bare is not None:
-        ref = rectangle_statistics(photo, bare, flat=flat, dark=dark).mean[0, 0]
+        ref = rectangle_statistics(photo, bare, flat=flat, dark=dark, channels="rgb").mean[0, 0]
         if not np.all(ref > 0):
             raise FilmopticError("the bare rectangle has no signal in some colour channel")
         expected = XYZ_to_rgb(model.bare_XYZ(), observer)
