@@ -154,7 +154,8 @@ def _print_report(result, photo):
 @observer_option
 @click.option("--encoding", type=click.Choice(["auto", "srgb", "linear"], case_sensitive=False),
               default="auto", show_default=True,
-              help="How pixel values relate to light: auto = sRGB for 8-bit files, linear for 16-bit and RAW.")
+              help="How pixel values relate to light: auto = sRGB for 8-bit files, linear for 16-bit files "
+                   "and RAW. A 16-bit file exported by a photo editor is usually sRGB: say --encoding srgb.")
 @click.option("--range", "range_text", metavar="START:STOP",
               help="Thicknesses searched, nm (default: the layer's LOW..HIGH, else 0:100 for a metal, 0:500 otherwise).")
 @angle_option

@@ -281,7 +281,7 @@ def colour_cells(stack, photo, grid, *, flat=None, dark=None, mask=None, white=N
     step_nm : float
         Grid step of the computed colours before refinement.
     """
-    from ..colorimetry import check_illuminant, check_observer, colour_sweep, sweep_bounds_nm
+    from ..colorimetry import check_illuminant, check_observer, sweep_bounds_nm
     from ..roots import interval_around, refine_minima
     from ..solve import default_range_nm
     from ..stack import parse_stack

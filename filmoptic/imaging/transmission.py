@@ -104,7 +104,7 @@ def transmission_cells(stack, photo, grid, *, bare=None, flat=None, dark=None, m
     progress : callable, optional
         Called with the number of photo rows done.
     """
-    from ..solve import Reading, evaluate_condition, solve_batch
+    from ..solve import Reading, evaluate_condition
     from ..stack import parse_stack
 
     if bare is None and flat is None:
@@ -178,8 +178,7 @@ def transmission_cells(stack, photo, grid, *, bare=None, flat=None, dark=None, m
         if np.any(near):
             again = _solve(stack, template, np.clip(batch.closest_value[near], 0.0, 1.0), u[near], options)
             t[near], lo[near], hi[near] = again.thickness_nm, again.low_nm, again.high_nm
-            status[near] = np.where(again.status == "unreachable", "unreachable", again.status)
-        status = np.where(status == "several", "several", status)
+            status[near] = again.status
         flat_flag = flag.ravel()
         flat_flag[solve_rows] = status
         flag = flat_flag.reshape(shape)
