@@ -36,6 +36,7 @@ MODULES = [
     "filmoptic.imaging.profile",
     "filmoptic.imaging.render",
     "filmoptic.imaging.maps",
+    "filmoptic.imaging._search",
     "filmoptic.plots.chart",
     "filmoptic.plots.nk",
     "filmoptic.plots.spectrum",

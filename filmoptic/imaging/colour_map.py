@@ -281,9 +281,8 @@ def colour_cells(stack, photo, grid, *, flat=None, dark=None, mask=None, white=N
     step_nm : float
         Grid step of the computed colours before refinement.
     """
-    from ..colorimetry import check_illuminant, check_observer, sweep_bounds_nm
+    from ..colorimetry import check_illuminant, check_observer
     from ..roots import interval_around, refine_minima
-    from ..solve import default_range_nm
     from ..stack import parse_stack
 
     if not photo.is_colour:
@@ -293,16 +292,9 @@ def colour_cells(stack, photo, grid, *, flat=None, dark=None, mask=None, white=N
     observer = check_observer(observer)
     check_illuminant(illuminant)
     stack = parse_stack(stack, ambient=ambient) if isinstance(stack, str) else stack
-    bounds = sweep_bounds_nm(stack)   # also refuses a stack without exactly one unknown thickness
-    if range_nm is None:
-        if bounds is not None:
-            range_nm = bounds
-        else:
-            layer = stack.layers[stack.parameters[stack.thickness_parameters[0]].layer]
-            range_nm = default_range_nm(layer.material)
-    lo, hi = float(range_nm[0]), float(range_nm[1])
-    if not (0 <= lo < hi and np.isfinite(hi)):
-        raise FilmopticError(f"--range: need 0 <= START < STOP, got {lo:g}:{hi:g}")
+    from ._search import search_range_nm
+
+    lo, hi = search_range_nm(stack, range_nm)
     if not step_nm > 0:
         raise FilmopticError("the thickness step must be positive")
     model = _ColourModel(stack, illuminant, observer, angle_deg, extrapolate)

@@ -17,9 +17,11 @@ import numpy as np
 
 from ..errors import FilmopticError
 from .photo import CellGrid, Photo
+from ._search import search_range_nm
 from .profile import MapStats, Profile, fit_profile, map_stats
 
-__all__ = ["MODES", "FLAGS", "CSV_COLUMNS", "ThicknessMap", "map_thickness", "csv_header", "csv_rows", "map_json"]
+__all__ = ["MODES", "FLAGS", "CSV_COLUMNS", "ThicknessMap", "map_thickness", "search_range_nm", "csv_header",
+           "csv_rows", "map_json"]
 
 #: Modes of :func:`map_thickness` (``"color"`` is accepted for ``"colour"``).
 MODES = ("transmission", "colour")
@@ -260,6 +262,8 @@ def map_thickness(stack, photo, *, mode="transmission", bare=None, flat=None, da
             cells = parse_cells(cells)
         grid = cell_grid(area, cells=tuple(int(v) for v in cells))
 
+    stack = _parse_stack(stack, ambient)
+    range_nm = search_range_nm(stack, range_nm)
     common = dict(flat=flat, dark=dark, mask=mask_array, illuminant=illuminant, known=known_value,
                   range_nm=range_nm, angle_deg=angle_deg, ambient=ambient, extrapolate=extrapolate,
                   progress=progress)
@@ -283,7 +287,7 @@ def map_thickness(stack, photo, *, mode="transmission", bare=None, flat=None, da
     X, Y = np.meshgrid(x, y)
     stats = map_stats(res.thickness_nm, res.flag)
     profile = fit_profile(X, Y, res.thickness_nm, unit)
-    stack_text = stack if isinstance(stack, str) else getattr(stack, "text", str(stack))
+    stack_text = getattr(stack, "text", str(stack))
     from ..colorimetry import illuminant_label
 
     return ThicknessMap(
@@ -293,6 +297,12 @@ def map_thickness(stack, photo, *, mode="transmission", bare=None, flat=None, da
         reference=res.reference, illuminant=illuminant_label(illuminant), range_nm=tuple(res.range_nm),
         stats=stats, profile=profile, notes=res.notes, **extra,
     )
+
+
+def _parse_stack(stack, ambient):
+    from ..stack import parse_stack
+
+    return parse_stack(stack, ambient=ambient) if isinstance(stack, str) else stack
 
 
 # --------------------------------------------------------------------------------------------

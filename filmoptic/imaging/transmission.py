@@ -113,6 +113,14 @@ def transmission_cells(stack, photo, grid, *, bare=None, flat=None, dark=None, m
             "photo) and/or --open FILE (a photo of the empty light box with the same settings)"
         )
     stack = parse_stack(stack, ambient=ambient) if isinstance(stack, str) else stack
+    from ..colorimetry import default_wavelengths
+
+    if not stack.substrate_passes_light(default_wavelengths(), extrapolate=extrapolate):
+        raise FilmopticError(
+            f"transmission mode: no light comes out behind the substrate {stack.substrate.label!r}, an "
+            "absorbing half-space; map the part in reflection with --mode colour, or give the substrate "
+            "as a slab with its thickness (e.g. 'glass 4mm')"
+        )
     reference = "bare" if bare is not None else "open"
     template = Reading(0.5, source=illuminant, detector="photopic", reference=reference)
     # Refuses an opaque substrate or a stack without one unknown before any pixel is read.
@@ -165,6 +173,10 @@ def transmission_cells(stack, photo, grid, *, bare=None, flat=None, dark=None, m
     high = np.full(shape, np.nan)
     options = dict(range_nm=range_nm, angle_deg=angle_deg, extrapolate=extrapolate)
     solved_range = range_nm
+    if solved_range is None:
+        from ._search import search_range_nm
+
+        solved_range = search_range_nm(stack)
     if solve_rows.size:
         values = ratio.ravel()[solve_rows]
         u = sigma.ravel()[solve_rows]
@@ -184,6 +196,11 @@ def transmission_cells(stack, photo, grid, *, bare=None, flat=None, dark=None, m
         flag = flat_flag.reshape(shape)
         for target, source in ((thickness, t), (low, lo), (high, hi)):
             target.ravel()[solve_rows] = np.where(status == "unreachable", np.nan, source)
+    unreachable = int(np.count_nonzero(flag == "unreachable"))
+    if unreachable:
+        notes.append(f"{unreachable} cells read outside what the film gives in {solved_range[0]:g}–{solved_range[1]:g} nm "
+                     "(brighter than the reference, or darker than the thickest film): check the reference "
+                     "rectangle, the photos' exposure and --range")
     if photo.encoding == "sRGB":
         notes.append("8-bit photo decoded as sRGB: a camera's own tone curve is only approximately sRGB "
                      + ("(corrected here by the known region's gain)" if gain is not None
