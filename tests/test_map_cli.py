@@ -122,3 +122,19 @@ def test_demo_part_maps_its_synthetic_photo(tmp_path):
     # The map of the 8-bit JPEG (with noise and vignetting removed by the open-box photo) follows
     # the invented field it was rendered from.
     assert np.max(np.abs(t - demo_map.true_field(x, y))) < 0.15
+
+
+def test_a_map_where_no_cell_can_be_solved_still_reports(run_cli, photos):
+    # The mapped region is the bare strip itself and the range starts at 5 nm: bare glass passes
+    # more light than any film of 5–100 nm, so no cell can be solved; the report still comes, with
+    # a note saying why.
+    result = run_cli(["map", STACK, "--photo", photos / "part.jpg", "--open", photos / "box.jpg",
+                      "--bare", "2,2,18,118", "--region", "0,0,20,120", "--cells", "2x4", "--range", "5:100"])
+    assert result.exit_code == 0, result.stderr
+    assert "unreachable 8" in result.stdout
+    assert "outside what the film gives in 5–100 nm" in result.stdout
+
+
+def test_transmission_through_an_opaque_substrate_points_to_colour_mode(run_cli, photos):
+    result = run_cli(["map", "Ti ? / Si", "--photo", photos / "part.jpg", "--open", photos / "box.jpg"])
+    assert_user_error(result, "--mode colour")
