@@ -296,8 +296,12 @@ _SWAPPED_BYTE = {"B": "L", "L": "B", "N": "B" if sys.byteorder == "little" else 
 
 
 def _sixteen_bit_rawmode(tile) -> str | None:
-    """The rawmode of a 16-bit-per-channel colour tile (``RGB;16B``…), which Pillow keeps at 8 bits."""
-    args = tile.args
+    """The rawmode of a 16-bit-per-channel colour tile (``RGB;16B``…), which Pillow keeps at 8 bits.
+
+    A tile is ``(codec, extents, offset, args)`` (a named tuple in recent Pillow, a plain one
+    before); ``args`` is the rawmode or a tuple that starts with it.
+    """
+    args = tuple(tile)[3]
     rawmode = args if isinstance(args, str) else (args[0] if args else None)
     if isinstance(rawmode, str) and re.fullmatch(r"RGBA?;16[BLN]", rawmode):
         return rawmode
@@ -305,8 +309,9 @@ def _sixteen_bit_rawmode(tile) -> str | None:
 
 
 def _with_rawmode(tile, rawmode):
-    args = rawmode if isinstance(tile.args, str) else (rawmode, *tuple(tile.args)[1:])
-    return tile._replace(args=args)
+    codec, extents, offset, args = tuple(tile)
+    args = rawmode if isinstance(args, str) else (rawmode, *tuple(args)[1:])
+    return tile._replace(args=args) if hasattr(tile, "_replace") else (codec, extents, offset, args)
 
 
 def _decode_16bit_colour(path, image_open) -> np.ndarray:
