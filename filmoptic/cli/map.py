@@ -206,11 +206,12 @@ def map_command(stack, photo_path, mode, bare, open_path, dark_path, white, regi
     Light the part evenly with a diffuse white source and include bare metal (--bare) or a white
     card (--white) for exposure and white balance.
 
-    Cells with saturated or too dark pixels, cells no thickness explains, and (colour) poor
-    matches are flagged and left out of the statistics; "several" marks cells where more than
-    one thickness in the range fits (the thinnest is given). The uniformity is ±(max − min) /
-    (max + min) in percent over the solved cells; a tilted plane and a radial fall-off
-    t0/(1 + r²/h²)² of a small source (h: its equivalent distance) are fitted to the map.
+    Cells with saturated or too dark pixels and cells no thickness in the range explains are
+    flagged and not solved. Two flags keep their thickness and count in the statistics:
+    "several" (more than one thickness in the range fits; the thinnest is given) and, in colour
+    mode, "poor_match" (ΔE00 above 10). The uniformity is ±(max − min) / (max + min) in percent
+    over the solved cells; a tilted plane and a radial fall-off t0/(1 + r²/h²)² of a small
+    source (h: its equivalent distance) are fitted to the map.
 
     Coordinates are pixels of the upright photo (EXIF orientation applied) from its top-left
     corner, x to the right and y down, or mm with --scale.
