@@ -25,8 +25,8 @@ def test_help_imports_no_heavy_library():
     assert out.stdout.strip() == "[]", out.stdout
 
 
-@pytest.mark.parametrize("command", ["spectrum", "color", "sweep", "solve", "compare", "rate", "fit", "materials", "demo",
-                                     "anodize", "anodise", "heat-tint"])
+@pytest.mark.parametrize("command", ["spectrum", "color", "sweep", "solve", "compare", "rate", "fit", "map", "materials", "demo",
+                                     "anodize", "anodise", "heat-tint", "monitor"])
 def test_every_command_has_help(run_cli, command):
     result = run_cli([command, "--help"])
     assert result.exit_code == 0, result.stderr

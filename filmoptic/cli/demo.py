@@ -16,6 +16,7 @@ SECTIONS = (
     ("fit", "Thickness and index from a (synthetic) transmittance curve"),
     ("anodize", "Colour chart for anodised titanium, and the voltage for a colour"),
     ("monitor", "Stopping a run from a light signal: a replayed (synthetic) semi-mirror run"),
+    ("map", "Thickness map of the door glass from a (synthetic) light-box photo"),
 )
 
 

@@ -102,3 +102,24 @@ MONITOR_QW_SHUTTER_OPENS_S = 8.0
 MONITOR_QW_INTERVAL_S = 0.25
 MONITOR_QW_COUNTS = 3.0            # volts from the photodiode amplifier through the bare witness
 MONITOR_QW_NOISE = 0.001
+
+# Job 6 (thickness map from a photo): the door glass of job 3 photographed on the studio's light
+# box to see how even the titanium came out. The photo is synthetic, made by the demo itself from
+# this invented thickness field: a small source's fall-off t0/(1 + r²/h²)² about a centre off the
+# glass's middle, a slight tilt, and a strip along the left edge left bare under a clamp.
+MAP_STACK = "Ti ? / glass 4mm"
+MAP_LIGHT_BOX = "LED-B3"                  # the light box's spectrum (a CIE white-LED illuminant)
+MAP_PHOTO_PX = (960, 720)                 # width, height of the (synthetic) photo
+MAP_SCALE_PX_PER_MM = 3.0                 # from a ruler on the light box
+MAP_GLASS_MM = (10.0, 10.0, 310.0, 230.0) # the glass on the photo: x0, y0, x1, y1 in mm
+MAP_BARE_STRIP_MM = 25.0                  # width of the bare strip under the clamp, at the glass's left edge
+MAP_PEAK_NM = 10.6                        # thickest point of the film
+MAP_SOURCE_AT_MM = (185.0, 110.0)         # where the film is thickest (x, y on the photo)
+MAP_SOURCE_DISTANCE_MM = 420.0            # h of the fall-off
+MAP_TILT_NM_PER_MM = (0.002, -0.001)      # extra thickness per mm along x and y
+MAP_EXPOSURE = 0.82                       # the open light box's level on the lens axis (linear)
+MAP_VIGNETTING_CORNER = 0.72              # the lens passes this fraction in the photo's corners
+MAP_NOISE = (0.01, 0.002)                 # camera noise: shot and read (linear units)
+MAP_JPEG_QUALITY = 90
+MAP_SEED = 20261203
+MAP_CELL_MM = 10.0                        # map cells, mm
