@@ -26,6 +26,7 @@ COMMANDS = {
     "compare": ("filmoptic.cli.compare", "compare", "Compare candidate materials for the same target."),
     "rate": ("filmoptic.cli.rate", "rate", "Deposition rate from calibration runs, and time for the next run."),
     "fit": ("filmoptic.cli.fit", "fit", "Fit thickness and optical constants to measured spectra."),
+    "design": ("filmoptic.cli.design", "design", "Design layers that meet goals, and the yield of a design."),
     "materials": ("filmoptic.cli.materials", "materials", "List the optical-constant library, or show one material."),
     "demo": ("filmoptic.cli.demo", "demo", "Run the built-in worked example and write its tables and plots."),
 }
