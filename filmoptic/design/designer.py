@@ -10,10 +10,12 @@
 2. **refines locally** the best distinct ones together, by a bounded Levenberg–Marquardt
    iteration whose Jacobian comes from one batched engine call per iteration
    (:mod:`filmoptic.design.refine`);
-3. **grows** the best design with the needle method (Tikhonravov, Trubetskov & DeBell 1996,
+3. **grows** the best designs with the needle method (Tikhonravov, Trubetskov & DeBell 1996,
    :mod:`filmoptic.design.needle`) when materials are given: a needle goes where it lowers the
    merit fastest, all thicknesses are refined again, and this repeats while it helps and the
-   layer limit allows;
+   layer limit allows. When no needle helps (a design can be optimal for its total thickness,
+   as a quarter-wave mirror is), a quarter-wave layer at the reference wavelength is tried on
+   the outer face and next to the substrate instead;
 4. **keeps it manufacturable**: after every refinement, free layers thinner than
    ``min_layer_nm`` (default 10 nm, about the thinnest layer a small coater deposits
    reproducibly — common practice) are removed, neighbours of one material merged, and the rest
@@ -43,7 +45,7 @@ from filmoptic.errors import FilmopticError
 
 from .evaluate import Evaluator
 from .goals import Goal, parse_goals
-from .layout import Entry, Layout, default_high_nm, layout_from_stack
+from .layout import Entry, Layout, default_high_nm, layout_from_stack, same_material
 from .needle import needle_scan
 from .refine import refine
 from .search import random_search, search_box
@@ -326,6 +328,7 @@ class _Run:
     max_layers: int
     best: _Best
     progress: _Progress
+    reference_nm: float
     evaluated: int = 0
     max_iterations: int = 80
 
@@ -557,7 +560,7 @@ def design_coating(goals, stack=None, *, materials=(), on=None, ambient="air", m
 
     weight_sum = sum(g.weight for g in goals)
     run = _Run(goals, step, bool(extrapolate), min_layer, max_total, limit, _Best(weight_sum),
-               _Progress(progress))
+               _Progress(progress), reference)
     # Bad goals for this stack (light through an opaque substrate, wavelengths outside a table)
     # are reported now, before any work.
     run.merit_of(layout)
@@ -600,13 +603,14 @@ def design_coating(goals, stack=None, *, materials=(), on=None, ambient="air", m
                     finished.append((merit_done, _layer_count(lay_done), lay_done))
             merit, _, final = min(finished, key=lambda c: (c[0], c[1]))
             if inserted_total:
-                notes.append(f"needle method: {inserted_total} insertion{'s' if inserted_total > 1 else ''} "
-                             f"tried and kept while growing")
+                notes.append(f"growth: {inserted_total} layer insertion{'s' if inserted_total > 1 else ''} kept "
+                             "(needle method, and quarter waves on the faces where no needle helped)")
             if thin_best < 0.9 * merit and min_layer > GROWTH_THIN_NM:
                 notes.append(f"with layers thinner than {min_layer:g} nm allowed, a merit of {thin_best:.3g} "
                              f"was reached (see --min-layer)")
     except KeyboardInterrupt:
         interrupted = True
+        run.progress.callback = None     # the bar that was interrupted is not drawn again
         final = run.best.settled if run.best.settled is not None else run.best.layout
         if final is None:
             raise
@@ -695,6 +699,33 @@ def _grow(run: _Run, current, merit, materials, span):
                 grown.append((merit, current))
                 accepted = True
                 break
+        if not accepted and _layer_count(current) < run.max_layers:
+            accepted, current, merit = _add_outer_layer(run, current, merit, materials, span, thin)
+            if accepted:
+                grown.append((merit, current))
         if not accepted:
             break
     return grown
+
+
+def _add_outer_layer(run: _Run, current, merit, materials, span, thin):
+    """When no needle helps (the design is optimal for its thickness, as a quarter-wave mirror
+    is), try a quarter-wave layer at the reference wavelength on the outer face and next to the
+    substrate, of each material that differs from its neighbour; keep the best if it helps."""
+    best = None
+    for index in (0, len(current.entries)):
+        neighbour = current.entries[min(index, len(current.entries) - 1)] if current.entries else None
+        for material in materials:
+            if neighbour is not None and same_material(neighbour.material, material):
+                continue
+            n = float(np.real(np.asarray(material.nk(np.array([run.reference_nm]), extrapolate=run.extrapolate))).ravel()[0])
+            quarter = run.reference_nm / (4.0 * max(n, 1.0))
+            trial = current.insert(index, 0.0, material, quarter, max(default_high_nm(material), 2 * quarter),
+                                   edge_nm=EDGE_NM)
+            trial, trial_merit = run.settle(trial, (run.progress.done, span[1]), thin_nm=thin)
+            if trial_merit < merit * (1 - 1e-3) and _layer_count(trial) <= run.max_layers and \
+                    (best is None or trial_merit < best[0]):
+                best = (trial_merit, trial)
+    if best is None:
+        return False, current, merit
+    return True, best[1], best[0]
