@@ -35,6 +35,11 @@ MODULES = [
     "filmoptic.plots.chart",
     "filmoptic.plots.nk",
     "filmoptic.plots.spectrum",
+    "filmoptic.design.goals",
+    "filmoptic.design.layout",
+    "filmoptic.design.refine",
+    "filmoptic.design.designer",
+    "filmoptic.design.tolerance",
 ]
 
 

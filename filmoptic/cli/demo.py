@@ -14,6 +14,7 @@ SECTIONS = (
     ("colour", "Colours of oxide films and the tint of the semi-mirror"),
     ("thickness", "Thickness to aim for, thickness achieved, time for the next run"),
     ("fit", "Thickness and index from a (synthetic) transmittance curve"),
+    ("design", "A protected semi-mirror with a neutral tint, and its yield at ±3 %"),
 )
 
 

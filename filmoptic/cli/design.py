@@ -80,8 +80,8 @@ def _print_design(result, check_only: bool) -> None:
         rows.append([number, layer.material, f"{layer.thickness_nm:.3f}", qw,
                      "fixed" if layer.fixed else "designed"])
     if rows:
-        total = sum(layer.thickness_nm for layer in result.layers if layer.quarter_waves is not None)
-        print_table(["#", "material", "thickness (nm)", f"quarter waves at {result.reference_nm:g} nm", ""],
+        total = sum(layer.thickness_nm for layer in result.layers if not layer.thick)
+        print_table(["#", "material", "thickness (nm)", f"quarter waves at {result.reference_nm:g} nm", "role"],
                     rows)
         click.echo(f"total thickness of the thin layers: {total:.1f} nm")
     else:
@@ -94,10 +94,14 @@ def _print_design(result, check_only: bool) -> None:
 
 def _print_tolerance(t) -> None:
     click.echo("")
-    systematic = f", plus {t.systematic} shared by the layers of each material" if t.systematic else ""
-    spread = "standard deviation" if t.distribution == "normal" else "spread evenly over ±"
-    click.echo(f"Yield over {t.samples} simulated runs ({t.random} per layer, {spread}{systematic}; "
-               f"seed {t.seed}): {percent(t.yield_fraction, 1)} % ± {percent(t.yield_stderr, 1)} %")
+    if t.distribution == "normal":
+        errors = f"each layer off by {t.random} (standard deviation)"
+    else:
+        errors = f"each layer within ±{t.random}, spread evenly"
+    if t.systematic:
+        errors += f", plus {t.systematic} shared by the layers of each material"
+    click.echo(f"Yield over {t.samples} simulated runs ({errors}; seed {t.seed}): "
+               f"{percent(t.yield_fraction, 1)} % ± {percent(t.yield_stderr, 1)} %")
     rows = []
     for g in t.goals:
         if g.goal.kind == "colour":

@@ -54,3 +54,12 @@ NEXT_RUN_MATERIAL = "Ti"            # the next run makes the cabinet semi-mirror
 
 # Job 2 (continued): thicknesses charted for the silicon offcuts (added for the colour demo).
 OXIDE_ON_SILICON_RANGE_NM = (0.0, 600.0, 2.0)
+
+# Job 4 (added for the design demo): the cabinet semi-mirror again, now protected by a silica
+# overcoat and with a neutral (grey) reflected tint, designed from a stack with free thicknesses,
+# and its yield when the studio's coater holds each layer to ±3 %.
+DESIGN_STACK = "SiO2 20..200nm / Cr ? / TiO2 ? / glass 4mm"   # overcoat / absorber / titania / door glass
+DESIGN_GOALS = ("luminous-T = 30%", "reflected Lab = 62,0,0 within 2")
+DESIGN_SEED = 20261203
+DESIGN_TOLERANCE = "3%"            # each layer within ±3 % of its thickness, spread evenly
+DESIGN_SAMPLES = 2000

@@ -16,10 +16,12 @@
    layer limit allows. When no needle helps (a design can be optimal for its total thickness,
    as a quarter-wave mirror is), a quarter-wave layer at the reference wavelength is tried on
    the outer face and next to the substrate instead;
-4. **keeps it manufacturable**: after every refinement, free layers thinner than
-   ``min_layer_nm`` (default 10 nm, about the thinnest layer a small coater deposits
-   reproducibly — common practice) are removed, neighbours of one material merged, and the rest
-   refined again; ``max_total_nm`` bounds the total thickness throughout.
+4. **keeps it manufacturable**: after every refinement, the layers the design made that are
+   thinner than ``min_layer_nm`` (default 10 nm, about the thinnest dielectric layer a small
+   coater deposits reproducibly — common practice) are removed, neighbours of one material
+   merged, and the rest refined again; ``max_total_nm`` bounds the total thickness throughout.
+   The layers of a given stack are never removed: they keep the range written for them (a
+   semi-mirror's 8 nm of chromium is what the user asked for).
 
 The design is written as a stack with thicknesses rounded to a thousandth of a nanometre, and
 every reported value is computed from that stack as any other command would read it. A seed
@@ -96,12 +98,15 @@ MERIT_REACHED = 1e-7
 
 @dataclass(frozen=True)
 class LayerResult:
-    """One layer of a design (thicknesses in nm; quarter waves at the reference wavelength)."""
+    """One layer of a design: material notation, thickness (nm), quarter waves at the reference
+    wavelength (None for a metal or a thick slab), whether it was fixed, whether it is a thick
+    (incoherent) slab."""
 
     material: str
     thickness_nm: float
     quarter_waves: float | None
     fixed: bool
+    thick: bool = False
 
 
 @dataclass(frozen=True)
@@ -196,6 +201,10 @@ def default_reference_nm(goals) -> float:
 
 
 def _quarter_waves(material, thickness_nm, reference_nm, extrapolate):
+    """Optical thickness in quarter waves, 4·n·d/λ (Macleod ch. 2); None for a metal, whose
+    phase thickness is no guide, or where the table does not reach the reference."""
+    if getattr(material, "kind", "") == "metal":
+        return None
     try:
         n = float(np.real(np.asarray(material.nk(np.array([reference_nm]), extrapolate=extrapolate))).ravel()[0])
     except FilmopticError:
@@ -228,7 +237,7 @@ def _report(stack_text, goals, *, ambient, step_nm, reference_nm, extrapolate, s
         LayerResult(layer.material.notation, float(layer.thickness_nm),
                     None if layer.thick else _quarter_waves(layer.material, float(layer.thickness_nm),
                                                            reference_nm, extrapolate),
-                    True if designed is None else not designed[i])
+                    True if designed is None else not designed[i], bool(layer.thick))
         for i, layer in enumerate(stack.layers)
     )
     return DesignResult(
@@ -258,8 +267,8 @@ def check_design(stack, goals, *, ambient="air", step_nm: float = 5.0, reference
     Examples
     --------
     >>> r = check_design("n=1.38 99.64nm / n=1.52", ["R 550nm <= 1.5%"], ambient="n=1")
-    >>> round(r.goals[0].achieved, 5), r.goals[0].met
-    (0.01261, True)
+    >>> round(r.goals[0].achieved, 6), r.goals[0].met
+    (0.012601, True)
     """
     goals = _as_goals(goals, illuminant)
     step = _check_step(goals, step_nm)
@@ -377,7 +386,7 @@ class _Run:
             else:
                 merit = self.merit_of(layout)
             thin = [i for i, e in enumerate(layout.entries)
-                    if e.free and e.thickness_nm < thin_nm and e.low < thin_nm]
+                    if e.free and e.removable and e.thickness_nm < thin_nm and e.low < thin_nm]
             if not thin:
                 break
             layout = layout.remove(thin)
@@ -615,7 +624,7 @@ def design_coating(goals, stack=None, *, materials=(), on=None, ambient="air", m
         if final is None:
             raise
         notes.append("interrupted: this is the best design found before the interruption")
-        thin = [e for e in final.entries if e.free and e.thickness_nm < min_layer]
+        thin = [e for e in final.entries if e.free and e.removable and e.thickness_nm < min_layer]
         if thin:
             notes.append(f"{len(thin)} layer(s) thinner than the minimum of {min_layer:g} nm remain")
     if getattr(final.ambient, "notation", "air") != "air":

@@ -65,6 +65,9 @@ class Entry:
         A fixed layer as the user wrote it.
     group : int or None
         Entries with the same group share one unknown (the copies of a repeat group).
+    removable : bool
+        Whether the design may drop it when it grows too thin: True for layers the design made,
+        False for the layers of the user's stack (they keep their written range).
     """
 
     material: object
@@ -75,6 +78,7 @@ class Entry:
     thick: bool = False
     text: str = ""
     group: int | None = None
+    removable: bool = True
 
     def notation(self) -> str:
         if not self.free and self.text:
@@ -203,8 +207,9 @@ class Layout:
         else:
             if not host.free:
                 raise FilmopticError("a fixed layer cannot be split")
-            front = replace(host, thickness_nm=float(position_nm), group=None)
-            back = replace(host, thickness_nm=float(host.thickness_nm - position_nm), group=None)
+            # The halves of a split layer are the design's own: either may vanish later.
+            front = replace(host, thickness_nm=float(position_nm), group=None, removable=True)
+            back = replace(host, thickness_nm=float(host.thickness_nm - position_nm), group=None, removable=True)
             entries[index:index + 1] = [front, needle, back]
         return replace(self, entries=tuple(entries))
 
@@ -215,11 +220,12 @@ class Layout:
         merged = []
         for e in kept:
             if (merged and e.free and merged[-1].free and e.group is None and merged[-1].group is None
+                    and (e.removable or merged[-1].removable)
                     and not e.thick and not merged[-1].thick and same_material(e.material, merged[-1].material)):
                 a = merged[-1]
                 total = a.thickness_nm + e.thickness_nm
                 merged[-1] = replace(a, thickness_nm=total, low=min(a.low, e.low),
-                                     high=max(a.high, e.high, total))
+                                     high=max(a.high, e.high, total), removable=a.removable and e.removable)
             else:
                 merged.append(e)
         return replace(self, entries=tuple(merged))
@@ -242,7 +248,8 @@ def layout_from_stack(stack) -> Layout:
     """The layout of a parsed stack: its ``?`` and ``LOW..HIGH`` thicknesses are free.
 
     A ``?`` ranges over 0–500 nm (0–100 nm for a metal) and starts in the middle; a repeat
-    group's unknown stays one unknown for all its copies. Free values other than thicknesses
+    group's unknown stays one unknown for all its copies. The stack's layers are not removable:
+    they keep their written ranges whatever the minimum layer thickness of a design. Free values other than thicknesses
     (model coefficients, mix fractions) are refused: a design finds thicknesses.
     """
     others = [p.name for i, p in enumerate(stack.parameters) if i not in set(stack.thickness_parameters)]
@@ -265,8 +272,8 @@ def layout_from_stack(stack) -> Layout:
             if not math.isfinite(high):
                 high = default_high_nm(layer.material)
             group = layer.item if layer.item in shared else None
-            entries.append(Entry(layer.material, 0.5 * (low + high), True, low, high, False, "", group))
+            entries.append(Entry(layer.material, 0.5 * (low + high), True, low, high, False, "", group, False))
         else:
             entries.append(Entry(layer.material, float(t), False, float(t), float(t), bool(layer.thick),
-                                 layer.text, None))
+                                 layer.text, None, False))
     return Layout(tuple(entries), stack.substrate, stack.ambient, stack.exit_medium)
