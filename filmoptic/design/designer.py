@@ -48,7 +48,7 @@ from filmoptic.errors import FilmopticError
 from .evaluate import Evaluator
 from .goals import Goal, parse_goals
 from .layout import Entry, Layout, default_high_nm, layout_from_stack, same_material
-from .needle import needle_scan
+from .needle import EDGE_NM, needle_scan
 from .refine import refine
 from .search import random_search, search_box
 
@@ -78,8 +78,6 @@ START_LAYERS = 4
 NEEDLE_START_NM = 2.0
 #: Needle positions tried in turn before the growth stops.
 NEEDLE_ATTEMPTS = 3
-#: A needle closer than this to a layer's face goes into the interface instead of splitting it, nm.
-EDGE_NM = 0.5
 #: During growth, layers thinner than this are removed (nm); the minimum layer thickness is
 #: applied to the grown designs afterwards.
 GROWTH_THIN_NM = 1.0
@@ -309,7 +307,7 @@ class _Best:
         self.weight_sum = weight_sum
         self.layout = None
         self.merit = math.inf
-        self.settled = None        # best design that also respects the minimum layer thickness
+        self.settled = None        # best design whose own layers all keep the minimum thickness
         self.settled_merit = math.inf
 
     def offer(self, layout, X, F) -> None:
@@ -392,7 +390,7 @@ class _Run:
             layout = layout.remove(thin)
         else:  # pragma: no cover - every pass removes a layer, so the loop ends before this
             merit = self.merit_of(layout)
-        if thin_nm >= self.min_layer_nm:
+        if all(e.thickness_nm >= self.min_layer_nm for e in layout.entries if e.free and e.removable):
             self.best.offer_settled(layout, merit)
         return layout, merit
 
@@ -610,6 +608,9 @@ def design_coating(goals, stack=None, *, materials=(), on=None, ambient="air", m
                     thin_best = min(thin_best, merit_grown)
                     lay_done, merit_done = run.settle(lay_grown, (run.progress.done, span[1]))
                     finished.append((merit_done, _layer_count(lay_done), lay_done))
+            # Any design met on the way that already kept the minimum thickness competes too.
+            if run.best.settled is not None:
+                finished.append((run.best.settled_merit, _layer_count(run.best.settled), run.best.settled))
             merit, _, final = min(finished, key=lambda c: (c[0], c[1]))
             if inserted_total:
                 notes.append(f"growth: {inserted_total} layer insertion{'s' if inserted_total > 1 else ''} kept "
@@ -699,8 +700,9 @@ def _grow(run: _Run, current, merit, materials, span):
             if _layer_count(current) + (2 if splits else 1) > run.max_layers:
                 continue
             tried.append(c)
+            # (remove(()) merges neighbours of one material, should the needle meet one.)
             trial = current.insert(c.index, c.position_nm, c.material, NEEDLE_START_NM,
-                                   default_high_nm(c.material), edge_nm=EDGE_NM)
+                                   default_high_nm(c.material), edge_nm=EDGE_NM).remove(())
             stop = span[0] + (span[1] - span[0]) * min(len(grown) + 1, room) / room
             trial, trial_merit = run.settle(trial, (run.progress.done, stop), thin_nm=thin)
             if trial_merit < merit * (1 - 1e-3) and _layer_count(trial) <= run.max_layers:

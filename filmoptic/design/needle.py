@@ -34,6 +34,8 @@ __all__ = ["NeedleCandidate", "needle_scan", "NEEDLE_PROBE_NM", "NEEDLE_SPACING_
 NEEDLE_PROBE_NM = 1e-3
 #: Largest distance between the depths probed inside a layer, nm.
 NEEDLE_SPACING_NM = 4.0
+#: Depths closer than this to a face count as the face, nm.
+EDGE_NM = 0.5
 
 
 @dataclass(frozen=True)
@@ -114,12 +116,19 @@ def needle_scan(layout, goals, materials, *, step_nm: float, extrapolate: bool =
             base_row.extend([layout.entries[i].thickness_nm, 0.0, 0.0])
         base_row = np.array(base_row)
         rows, places = [], []
+        entries = layout.entries
         for i in coherent:
             host = layout.entries[i]
             if same_material(host.material, material):
                 continue
             c = column_of[i]
+            # At a face shared with a layer of the needle's own material the needle would only
+            # thicken that layer: not a new layer, so not a place for one.
+            before = i > 0 and same_material(entries[i - 1].material, material)
+            after = i + 1 < len(entries) and same_material(entries[i + 1].material, material)
             for z in _positions(host):
+                if (before and z < EDGE_NM) or (after and z > host.thickness_nm - EDGE_NM):
+                    continue
                 row = base_row.copy()
                 row[c:c + 3] = (z, NEEDLE_PROBE_NM, host.thickness_nm - z)
                 rows.append(row)
