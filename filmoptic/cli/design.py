@@ -13,13 +13,13 @@ from filmoptic.cli._common import (
     json_option,
     percent,
     print_table,
-    progress,
     save_plot,
     user_errors,
 )
-
+# The progress bar that appears only once work has taken over a second (shared with `fit`).
+from filmoptic.cli.fit import _late_progress as late_progress
 # A design that passes less light than this gets the eye caution (the same rule as `solve`).
-_EYE_CAUTION_BELOW = 0.10
+from filmoptic.cli.solve import EYE_CAUTION, EYE_CAUTION_BELOW
 
 
 class LengthNmType(click.ParamType):
@@ -42,17 +42,6 @@ class LengthNmType(click.ParamType):
                 return parse_length_nm(text, what)
         except FilmopticError as exc:
             raise click.UsageError(str(exc)) from None
-
-
-def _track(advance):
-    """``progress(done, total)`` callbacks → the bar's ``advance(n)``."""
-    state = {"done": 0}
-
-    def report(done, total):
-        advance(max(done - state["done"], 0))
-        state["done"] = done
-
-    return report
 
 
 def _goal_cells(result):
@@ -160,9 +149,9 @@ def _json_payload(result, tolerance) -> dict:
 
 
 def _needs_eye_caution(goals, result) -> bool:
-    asked = any(g.kind == "luminous" and g.quantity == "T" and g.operator != ">=" and g.value < _EYE_CAUTION_BELOW
+    asked = any(g.kind == "luminous" and g.quantity == "T" and g.operator != ">=" and g.value < EYE_CAUTION_BELOW
                 for g in goals)
-    reached = any(g.goal.kind == "luminous" and g.goal.quantity == "T" and g.achieved < _EYE_CAUTION_BELOW
+    reached = any(g.goal.kind == "luminous" and g.goal.quantity == "T" and g.achieved < EYE_CAUTION_BELOW
                   for g in result.goals)
     return asked or reached
 
@@ -310,18 +299,17 @@ def design(stack, goal_texts, goals_file, materials, on, max_layers, min_layer, 
                                      "--on SUBSTRATE to design from nothing")
             if stack is None and not material_list:
                 raise FilmopticError("--on starts a design from nothing: add --materials, e.g. --materials TiO2,SiO2")
-            with progress(1000, "Designing") as advance:
+            with late_progress("Designing") as report:
                 result = design_coating(goals, stack, materials=material_list, on=on, ambient=ambient,
                                         max_layers=max_layers, min_layer_nm=min_layer, max_total_nm=max_total,
                                         seed=seed, tries=tries, starts=starts, step_nm=step,
-                                        reference_nm=reference, extrapolate=extrapolate,
-                                        progress=_track(advance))
+                                        reference_nm=reference, extrapolate=extrapolate, progress=report)
         tolerance = None
         if random_error is not None:
-            with progress(samples, "Simulating runs") as advance:
+            with late_progress("Simulating runs") as report:
                 tolerance = tolerance_analysis(result.stack, goals, random=random_error, systematic=systematic_error,
                                                samples=samples, uniform=uniform, seed=seed, ambient=ambient,
-                                               step_nm=step, extrapolate=extrapolate, progress=_track(advance))
+                                               step_nm=step, extrapolate=extrapolate, progress=report)
         if plot_path:
             from filmoptic.plots.design import plot_design
 
@@ -330,8 +318,6 @@ def design(stack, goal_texts, goals_file, materials, on, max_layers, min_layer, 
     if result.interrupted:
         click.echo("filmoptic: warning: interrupted; showing the best design found so far", err=True)
     if _needs_eye_caution(goals, result):
-        from filmoptic.cli.solve import EYE_CAUTION
-
         echo_caution(EYE_CAUTION)
     if as_json:
         emit_json(_json_payload(result, tolerance))

@@ -48,6 +48,7 @@ __all__ = [
     "parse_error",
     "tolerance_analysis",
     "perturbed_thicknesses",
+    "spectral_band",
     "MAX_SAMPLES",
     "SAMPLE_CHUNK",
 ]
