@@ -141,3 +141,19 @@ def test_plot_may_not_replace_the_goals_file(run_cli, tmp_path):
     result = run_cli(["design", "n=1.38 ? / n=1.52", "--ambient", "n=1", "--goals", goals, "--plot", goals])
     assert_user_error(result, "input")
     assert goals.read_text(encoding="utf-8") == "R 550nm <= 1%\n"
+
+
+def test_demo_part_writes_a_report_whose_stack_scores_as_printed(run_cli, tmp_path):
+    result = run_cli(["demo", "--only", "design", "--out", tmp_path])
+    assert result.exit_code == 0, result.stderr
+    report = (tmp_path / "design_report.txt").read_text(encoding="utf-8")
+    assert (tmp_path / "design_plot.png").stat().st_size > 0
+    assert "yield with every layer within ±3%" in report and "critical layer" in report
+    from filmoptic.demo import scenario
+    from filmoptic.design import check_design
+
+    stack = next(line.split(": ", 1)[1] for line in report.splitlines() if line.startswith("design: "))
+    checked = check_design(stack, scenario.DESIGN_GOALS)
+    for goal in checked.goals:
+        line = next(l for l in report.splitlines() if l.strip().startswith(f"{goal.goal.text}: ") and "—" in l)
+        assert line.endswith("— met") == goal.met, line

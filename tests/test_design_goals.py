@@ -44,6 +44,7 @@ from filmoptic.stack import parse_stack
     ("T 0.55um = 40% within 2% weight 3", dict(band_nm=(550.0, 550.0), within=0.02, weight=3.0)),
     ("luminous-T >= 70% under A", dict(illuminant="A", value=0.7)),
     ("reflected Lab = 60,0,0", dict(within=DEFAULT_COLOUR_WITHIN)),
+    ("reflected Lab = 60,0,-10 @0..30deg within 3", dict(angle_range_deg=(0.0, 30.0), within=3.0)),
 ])
 def test_the_listed_goal_forms_read(text, expected):
     goal = parse_goal(text)
@@ -87,6 +88,7 @@ def test_bands_include_both_ends():
     ("luminous-T = 30% under D66", "unknown illuminant"),
     ("R 550nm <= 1% <= 2%", "more than one comparison"),
     ("mean mean R 550nm <= 1%", "repeats"),
+    ("R 420-680nm <= 1%", "'420..680nm'"),
 ])
 def test_bad_goals_are_one_line_errors(text, fragment):
     with pytest.raises(FilmopticError) as info:

@@ -159,7 +159,7 @@ def _needs_eye_caution(goals, result) -> bool:
 @click.command()
 @click.argument("stack", required=False)
 @click.option("--goal", "goal_texts", multiple=True, metavar="GOAL",
-              help="A goal, e.g. 'mean R 420..680nm <= 0.5%' (repeatable; the grammar is below).")
+              help="A goal, e.g. 'mean R 420..680nm <= 0.5%' (repeatable; the forms are listed above).")
 @click.option("--goals", "goals_file", type=click.Path(dir_okay=False), metavar="FILE",
               help="A text file of goals, one a line; '#' starts a comment.")
 @click.option("--materials", metavar="LIST",
@@ -171,8 +171,9 @@ def _needs_eye_caution(goals, result) -> bool:
 @click.option("--max-layers", type=click.IntRange(1, 200), metavar="N",
               help="Most layers in the design (default 10, or the STACK's own count).")
 @click.option("--min-layer", type=LengthNmType(), default="10nm", show_default=True, metavar="LENGTH",
-              help="Thinnest layer the design keeps; thinner free layers are removed and their neighbours "
-                   "merged. 10 nm is about the thinnest layer a small coater deposits reproducibly.")
+              help="Thinnest layer the design keeps among those it makes; thinner ones are removed and their "
+                   "neighbours merged. 10 nm is about the thinnest dielectric layer a small coater deposits "
+                   "reproducibly; a STACK's own '?' layers keep their ranges (0–100 nm for a metal).")
 @click.option("--max-total", type=LengthNmType(), metavar="LENGTH",
               help="Largest total thickness of the thin layers (e.g. 1.5um).")
 @click.option("--seed", type=click.IntRange(0, 2**32 - 1), default=0, show_default=True,
@@ -226,6 +227,7 @@ def design(stack, goal_texts, goals_file, materials, on, max_layers, min_layer, 
       transmitted hex = #8a9a7b within 3
       mean R 420..680nm @0..40deg <= 1%  an angle range (sampled every 5° or finer)
       R 1064nm @45deg s >= 99%          a polarisation: s, p (default unpolarized)
+      reflected Lab = 60,0,0 @0..30deg  colours and luminous values at angles too
       … weight 3                        counts three times in the merit
       … under A                         illuminant of a luminous or colour goal
 
@@ -236,9 +238,11 @@ def design(stack, goal_texts, goals_file, materials, on, max_layers, min_layer, 
       2. a local refinement of the best --starts of them together (bounded least squares,
          Levenberg–Marquardt, one batched evaluation per step);
       3. with --materials, the needle method (Tikhonravov, Trubetskov and DeBell, 1996):
-         new layers where they lower the merit fastest, while it helps and --max-layers allows;
-      4. free layers thinner than --min-layer are removed, neighbours of one material merged,
-         and the rest refined again; --max-total bounds the total thickness throughout.
+         new layers where they lower the merit fastest (where none helps, a quarter-wave
+         layer on either face), while it helps and --max-layers allows;
+      4. layers the design made that end thinner than --min-layer are removed, neighbours
+         of one material merged, and the rest refined again (a STACK's own layers keep
+         their ranges); --max-total bounds the total thickness throughout.
 
     The merit is the weighted RMS shortfall from the goals, in percentage points (ΔE00 for
     colours): 0 when every bound is met. The design is printed as a stack that every other

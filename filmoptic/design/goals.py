@@ -18,7 +18,8 @@ or reflectance (ISO 9050); colour goals ask for a CIELAB colour within a ΔE00 d
 
 The words before the comparison may come in any order: ``mean``, ``reverse`` (or ``front``),
 the quantity, the wavelength or band (``550nm``, ``420..680nm``, ``1.064um``), ``@ANGLE`` or
-``@LOW..HIGH`` in degrees, and a polarisation. After the comparison come the value (``0.5%`` or
+``@LOW..HIGH`` in degrees (which may also follow the value), and a polarisation. After the
+comparison come the value (``0.5%`` or
 ``0.005``; for colours ``L,a,b`` or ``#rrggbb``) and optionally ``within X``, ``weight W`` and
 ``under ILLUMINANT`` (luminous and colour goals; D65 unless said otherwise).
 
@@ -307,6 +308,9 @@ def _left_side(words, goal: str) -> dict:
             if band is None:
                 if re.fullmatch(rf"{_NUMBER}(\s*\.\.\s*{_NUMBER})?", word):
                     _fail(goal, f"the wavelength {word!r} needs a unit, e.g. '{word}nm'")
+                dash = re.fullmatch(r"(\d+\.?\d*)\s*[-–]\s*(\d+\.?\d*)\s*(nm|um|µm)?", word)
+                if dash:
+                    _fail(goal, f"write a band as LOW..HIGH, e.g. '{dash.group(1)}..{dash.group(2)}{dash.group(3) or 'nm'}'")
                 _fail(goal, f"cannot read {word!r}; {_EXAMPLES}")
             once("band", band, word)
         i += 1
@@ -373,6 +377,10 @@ def parse_goal(text: str, illuminant: str = "D65") -> Goal:
     if _OPERATOR_RE.search(right):
         _fail(goal, "more than one comparison; write one goal per --goal")
     words = left.replace("@ ", "@").split()
+    # An angle may also follow the value ('reflected Lab = 60,0,0 @0..30deg within 2').
+    right_words = right.replace("@ ", "@").split()
+    words += [w for w in right_words if w.startswith("@")]
+    right = " ".join(w for w in right_words if not w.startswith("@"))
     if not words:
         _fail(goal, f"say what to bound before {m.group()!r}; {_EXAMPLES}")
     parts = _left_side(words, goal)

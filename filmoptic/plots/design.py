@@ -74,10 +74,14 @@ def plot_design(result, goals, tolerance=None, *, ambient="air", step_nm: float 
 
     stack = parse_stack(result.stack, ambient=ambient)
     wl = _grid(stack, goals, extrapolate)
-    fig, (top, bottom) = new_figure(2, 1, figsize=(8.0, 6.8), gridspec_kw={"height_ratios": [3, 1.2]})
+    listing = 0.22 * (len(goals) + 1)          # inches for the numbered list of goals
+    fig, (top, bottom, notes) = new_figure(
+        3, 1, figsize=(8.0, 6.8 + listing), gridspec_kw={"height_ratios": [3, 1.2, listing / 1.2]})
     front = compute(stack, wl, extrapolate=extrapolate)
     exits = stack.substrate_passes_light(wl, extrapolate=extrapolate)
     shown = {"R": front.R, "T": front.T} if exits else {"R": front.R, "A": front.A}
+    if any(g.kind == "spectral" and g.quantity == "A" for g in goals):
+        shown["A"] = front.A
     y_range = _y_range(goals, wl, {"R": front.R, "T": front.T, "A": front.A})
     if y_range != (-2, 102):
         # Zoomed in on what the goals bound: the other curves would run off the axes.
@@ -107,7 +111,7 @@ def plot_design(result, goals, tolerance=None, *, ambient="air", step_nm: float 
             values = {"R": s.R, "T": s.T, "A": s.A}[g.quantity]
             top.plot(wl, 100 * values, "--", color=_COLOURS[g.quantity], lw=1.1, alpha=0.8,
                      label=f"{g.quantity} {_label(g.side, g.polarization, angle)}")
-    _draw_goals(top, goals, result)
+    _draw_goals(top, notes, goals, result)
     top.set_xlim(wl[0], wl[-1])
     top.set_ylim(*y_range)
     top.set_ylabel("percent of incident light")
@@ -149,28 +153,32 @@ def _band(result, tolerance, wl, ambient, extrapolate, samples):
                          samples=min(samples, tolerance.samples), ambient=ambient, extrapolate=extrapolate)
 
 
-def _draw_goals(ax, goals, result):
-    others = []
-    for g, r in zip(goals, result.goals):
-        tick = "✓" if r.met else "✗"
+def _draw_goals(ax, notes, goals, result):
+    """Spectral goals as bars (bands) or markers (one wavelength) numbered on the spectra; every
+    goal with its achieved value in the numbered list below the figure."""
+    lines = []
+    placed = {}          # label positions already used: later labels there stack upwards
+    for number, (g, r) in enumerate(zip(goals, result.goals), start=1):
+        tick = "met" if r.met else "NOT met"
+        value = f"ΔE00 {r.achieved:.2f}" if g.kind == "colour" else f"{100 * r.achieved:.3f} %"
+        lines.append(f"{number}. {g.text}  →  {value}  ({tick})")
         if g.kind != "spectral":
-            value = f"ΔE00 {r.achieved:.2f}" if g.kind == "colour" else f"{100 * r.achieved:.2f} %"
-            others.append(f"{tick} {g.text}: {value}")
             continue
         colour = _COLOURS[g.quantity]
         y = 100 * g.value
         lo, hi = g.band_nm
-        style = ":" if g.mean else "-"
         if hi > lo:
-            ax.hlines(y, lo, hi, colors=colour, linestyles=style, lw=3.0, alpha=0.5)
+            ax.hlines(y, lo, hi, colors=colour, linestyles=":" if g.mean else "-", lw=3.0, alpha=0.5)
             ax.plot([lo, hi], [y, y], _MARKERS[g.operator], color=colour, ms=6, alpha=0.8)
         else:
             ax.plot([lo], [y], _MARKERS[g.operator], color=colour, ms=8, alpha=0.9)
-        ax.annotate(f"{tick} {g.text}", (0.5 * (lo + hi), y), textcoords="offset points", xytext=(0, 6),
-                    ha="center", fontsize="x-small", color=colour)
-    if others:
-        ax.text(0.01, 0.98, "\n".join(others), transform=ax.transAxes, va="top", ha="left", fontsize="x-small",
-                bbox={"boxstyle": "round", "facecolor": "white", "alpha": 0.8, "lw": 0.5})
+        spot = (round(0.5 * (lo + hi)), round(y))
+        placed[spot] = placed.get(spot, -1) + 1
+        ax.annotate(str(number), (0.5 * (lo + hi), y), textcoords="offset points", xytext=(0, 7 + 10 * placed[spot]),
+                    ha="center", fontsize="small", color=colour, fontweight="bold")
+    notes.axis("off")
+    notes.text(0.0, 1.0, "Goals (▼ at most, ▲ at least, ◆ equal; dotted: band mean)\n" + "\n".join(lines),
+               transform=notes.transAxes, va="top", ha="left", fontsize="small")
 
 
 def _draw_profile(ax, stack, reference_nm, extrapolate):
