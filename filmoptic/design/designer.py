@@ -238,6 +238,13 @@ def _report(stack_text, goals, *, ambient, step_nm, reference_nm, extrapolate, s
                     True if designed is None else not designed[i], bool(layer.thick))
         for i, layer in enumerate(stack.layers)
     )
+    notes = list(notes)
+    if stack.substrate.thickness_nm is not None and any(
+            g.kind == "spectral" and g.quantity == "R" and g.side == "front" and g.operator == "<=" and g.value < 0.04
+            for g in goals):
+        # Common practice: an uncoated glass face reflects about 4 %, which no front coating removes.
+        notes.append(f"R includes the uncoated back face of {stack.substrate.text} (about 4 % for glass); "
+                     f"to judge one coated face, write the substrate without a thickness")
     return DesignResult(
         stack=stack.text, layers=layers, goals=tuple(goal_results), merit=float(scores.merit[0]),
         reference_nm=float(reference_nm), ambient=getattr(stack.ambient, "notation", str(stack.ambient)),

@@ -57,6 +57,17 @@ class Evaluator:
         Sampling step of band goals.
     extrapolate : bool
         Passed to the engine.
+
+    Examples
+    --------
+    Bare glass and a quarter-wave MgF2-like layer on it, in one batch:
+
+    >>> from filmoptic.design.goals import parse_goals
+    >>> from filmoptic.stack import parse_stack
+    >>> ev = Evaluator(parse_stack("n=1.38 ? / n=1.52", ambient="n=1"), parse_goals(["R 550nm <= 2%"]))
+    >>> s = ev.scores([[0.0], [99.6377]])
+    >>> s.achieved.round(5).tolist(), s.met.tolist()
+    ([[0.04258], [0.0126]], [[False], [True]])
     """
 
     def __init__(self, template, goals, *, step_nm: float = 5.0, extrapolate: bool = False):

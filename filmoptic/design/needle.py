@@ -79,6 +79,19 @@ def needle_scan(layout, goals, materials, *, step_nm: float, extrapolate: bool =
     Returns
     -------
     list of NeedleCandidate
+
+    Examples
+    --------
+    A high-index needle helps most at the substrate face of a low-index layer on glass:
+
+    >>> from filmoptic.design.goals import parse_goals
+    >>> from filmoptic.design.layout import layout_from_stack
+    >>> from filmoptic.materials import parse_material
+    >>> from filmoptic.stack import parse_stack
+    >>> lay = layout_from_stack(parse_stack("n=1.46 ? / n=1.52", ambient="n=1")).with_values([100.0])
+    >>> best = needle_scan(lay, parse_goals(["R 500..600nm <= 0%"]), [parse_material("n=2.35")], step_nm=50.0)[0]
+    >>> best.index, round(best.position_nm, 1), best.derivative < 0
+    (0, 100.0, True)
     """
     coherent = layout.coherent_indices()
     if base_sum_of_squares is None:

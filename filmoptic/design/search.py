@@ -50,7 +50,14 @@ def search_box(layout, wavelength_max_nm: float, extrapolate: bool = False):
 
 def distinct_best(X, merit, count: int, widths) -> np.ndarray:
     """Indices of the ``count`` best rows, skipping rows within ``DISTINCT_SHARE·widths`` of
-    one already taken."""
+    one already taken.
+
+    Examples
+    --------
+    >>> X = np.array([[10.0, 10.0], [10.2, 10.1], [50.0, 20.0]])
+    >>> distinct_best(X, np.array([1.0, 1.1, 2.0]), 2, [100.0, 100.0]).tolist()
+    [0, 2]
+    """
     order = np.argsort(merit, kind="stable")
     widths = np.maximum(np.asarray(widths, dtype=float), 1e-9)
     taken = []

@@ -68,6 +68,14 @@ def plot_design(result, goals, tolerance=None, *, ambient="air", step_nm: float 
     Returns
     -------
     matplotlib.figure.Figure
+
+    Examples
+    --------
+    >>> from filmoptic.design import check_design, parse_goals
+    >>> goals = parse_goals(["R 500..600nm <= 1.5%"])
+    >>> fig = plot_design(check_design("n=1.38 99.64nm / n=1.52", goals, ambient="n=1"), goals, ambient="n=1")
+    >>> [line.get_label() for line in fig.axes[0].lines][:1], len(fig.axes)
+    (['R'], 3)
     """
     from filmoptic.engine import compute
     from filmoptic.stack import parse_stack
