@@ -109,11 +109,6 @@ class Evaluator:
                     "absorbed); give it a thickness in mm, or drop the goal"
                 )
 
-    @property
-    def wavelength_groups(self) -> dict:
-        """(side, polarization, angles) → the wavelengths computed for that light."""
-        return dict(self._groups)
-
     # ------------------------------------------------------------------------------------------
     def spectra(self, X) -> dict:
         """R, T, A of every design for every group: ``{key: (R, T, A)}``, each ``(B, nA, W)``."""

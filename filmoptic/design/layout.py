@@ -126,10 +126,6 @@ class Layout:
         """Total thickness of the fixed coherent layers."""
         return float(sum(e.thickness_nm for e in self.entries if not e.free and not e.thick))
 
-    def total_nm(self) -> float:
-        """Total thickness of the coherent coating layers."""
-        return float(sum(e.thickness_nm for e in self.entries if not e.thick))
-
     def with_values(self, x) -> "Layout":
         x = np.asarray(x, dtype=float).reshape(-1)
         columns = self.columns()
@@ -139,16 +135,6 @@ class Layout:
         for value, members in zip(x, columns):
             for i in members:
                 entries[i] = replace(entries[i], thickness_nm=float(value))
-        return replace(self, entries=tuple(entries))
-
-    def with_bounds(self, low=None, high=None) -> "Layout":
-        """The same layout with the free entries' bounds replaced where given (per unknown)."""
-        entries = list(self.entries)
-        for k, members in enumerate(self.columns()):
-            for i in members:
-                e = entries[i]
-                entries[i] = replace(e, low=e.low if low is None else float(low[k]),
-                                     high=e.high if high is None else float(high[k]))
         return replace(self, entries=tuple(entries))
 
     # -- stacks --------------------------------------------------------------------------------
