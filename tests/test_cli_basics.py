@@ -26,7 +26,7 @@ def test_help_imports_no_heavy_library():
 
 
 @pytest.mark.parametrize("command", ["spectrum", "color", "sweep", "solve", "compare", "rate", "fit", "map", "materials", "demo",
-                                     "anodize", "anodise", "heat-tint", "monitor"])
+                                     "anodize", "anodise", "heat-tint", "monitor", "design"])
 def test_every_command_has_help(run_cli, command):
     result = run_cli([command, "--help"])
     assert result.exit_code == 0, result.stderr

@@ -52,6 +52,15 @@ MODULES = [
     "filmoptic.monitor.plan",
     "filmoptic.plots.monitor",
     "filmoptic.demo.monitor",
+    "filmoptic.plots.design",
+    "filmoptic.design.goals",
+    "filmoptic.design.layout",
+    "filmoptic.design.evaluate",
+    "filmoptic.design.search",
+    "filmoptic.design.needle",
+    "filmoptic.design.refine",
+    "filmoptic.design.designer",
+    "filmoptic.design.tolerance",
 ]
 
 

@@ -31,6 +31,7 @@ COMMANDS = {
     "heat-tint": ("filmoptic.cli.heat_tint", "heat_tint", "Temper and heat-tint colours of steel, stainless steel, copper."),
     "monitor": ("filmoptic.cli.monitor", "monitor", "Thickness, rate and time to stop from a live light signal."),
     "map": ("filmoptic.cli.map", "map_command", "Thickness and uniformity of a film from a photo of the part."),
+    "design": ("filmoptic.cli.design", "design", "Design layers that meet goals, and the yield of a design."),
     "materials": ("filmoptic.cli.materials", "materials", "List the optical-constant library, or show one material."),
     "demo": ("filmoptic.cli.demo", "demo", "Run the built-in worked example and write its tables and plots."),
 }

@@ -17,6 +17,7 @@ SECTIONS = (
     ("anodize", "Colour chart for anodised titanium, and the voltage for a colour"),
     ("monitor", "Stopping a run from a light signal: a replayed (synthetic) semi-mirror run"),
     ("map", "Thickness map of the door glass from a (synthetic) light-box photo"),
+    ("design", "A protected semi-mirror with a neutral tint, and its yield at ±3 %"),
 )
 
 
@@ -35,7 +36,8 @@ def demo(out_dir: Path, only):
     The example follows a fictional workshop through one week: choosing a metal and thickness for
     a semi-mirror that passes 30 % of the light, reading off the colours of thin oxide films,
     turning a lux-meter reading into a film thickness with an error bar, planning the next run's
-    time from two calibration runs, and fitting a transmittance curve. Every number in the scenario
+    time from two calibration runs, fitting a transmittance curve, and designing a protected
+    semi-mirror with a neutral tint and its yield when every layer is off by up to 3 %. Every number in the scenario
     is invented for illustration; the optical constants are the published ones shipped with
     filmoptic.
 

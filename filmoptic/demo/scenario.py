@@ -123,3 +123,12 @@ MAP_NOISE = (0.01, 0.002)                 # camera noise: shot and read (linear 
 MAP_JPEG_QUALITY = 90
 MAP_SEED = 20261203
 MAP_CELL_MM = 10.0                        # map cells, mm
+
+# Job 7 (added for the design demo): the cabinet semi-mirror again, now protected by a silica
+# overcoat and with a neutral (grey) reflected tint, designed from a stack with free thicknesses,
+# and its yield when the studio's coater holds each layer to ±3 %.
+DESIGN_STACK = "SiO2 20..200nm / Cr ? / TiO2 ? / glass 4mm"   # overcoat / absorber / titania / door glass
+DESIGN_GOALS = ("luminous-T = 30%", "reflected Lab = 62,0,0 within 2")
+DESIGN_SEED = 20261203
+DESIGN_TOLERANCE = "3%"            # each layer within ±3 % of its thickness, spread evenly
+DESIGN_SAMPLES = 2000
