@@ -48,6 +48,8 @@ class Candidate:
     note : str
         Why there is no answer, or ``""``.
     solution : filmoptic.solve.Solution or None
+    absorptance_layers, absorptance_substrate : float or None
+        The split of ``absorptance``: in the candidate's layer, and in the substrate.
     """
 
     material: str
@@ -66,6 +68,8 @@ class Candidate:
     solutions: int
     note: str
     solution: object = None
+    absorptance_layers: float | None = None
+    absorptance_substrate: float | None = None
 
 
 @dataclass(frozen=True)
@@ -182,5 +186,7 @@ def compare_materials(materials, substrate, conditions, *, range_nm=None, angle_
             solutions=len(result.solutions),
             note="",
             solution=best,
+            absorptance_layers=cp.absorptance_layers,
+            absorptance_substrate=cp.absorptance_substrate,
         ))
     return Comparison(substrate, conditions, tuple(candidates))

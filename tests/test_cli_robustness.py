@@ -199,17 +199,25 @@ def test_a_range_error_on_a_large_grid_names_the_far_end(run_cli):
 
 # -- light that cannot get out, or in ----------------------------------------------------------
 
-def test_absorbing_half_space_says_where_the_transmitted_light_goes(run_cli):
+def test_absorbing_half_space_passes_nothing_and_absorbs_what_enters(run_cli):
+    # Light entering titanium never comes out (Beer–Lambert over an unbounded path): T = 0 and
+    # the light not reflected, 1 − R, is absorbed in the substrate (R + T + A = 1).
     result = run_cli(["spectrum", "Ti", "--wl", "550", "--json"])
     assert result.exit_code == 0, result.stderr
-    json.loads(result.stdout)
-    assert "absorbed there" in result.stderr
+    data = json.loads(result.stdout)
+    assert data["T"] == [0.0] and data["transmission"] == "opaque"
+    assert data["A_substrate"][0] == pytest.approx(1 - data["R"][0], abs=1e-12)
+    table = run_cli(["spectrum", "Ti", "--wl", "550"])
+    assert table.stdout.count("absorbing half-space") == 1   # said once, under the table
 
 
-def test_transparent_half_space_gets_no_such_note(run_cli):
+def test_transparent_half_space_says_once_what_T_is(run_cli):
     result = run_cli(["spectrum", "MgF2 100nm / glass", "--wl", "550"])
     assert result.exit_code == 0
-    assert "absorbed there" not in result.stderr
+    assert result.stdout.count("enters the half-space substrate") == 1
+    assert "absorbing half-space" not in result.stdout
+    slab = run_cli(["spectrum", "MgF2 100nm / glass 4mm", "--wl", "550"])
+    assert "note:" not in slab.stdout   # through a slab, T is plainly what comes out
 
 
 def test_reverse_through_an_absorbing_half_space_is_refused(run_cli):
@@ -218,11 +226,19 @@ def test_reverse_through_an_absorbing_half_space_is_refused(run_cli):
     assert_user_error(run_cli(["spectrum", "Ti 12nm / Si", "--reverse", "--wl", "550"]), "half-space")
 
 
-def test_colour_against_angle_explains_t_on_an_opaque_substrate(run_cli):
-    result = run_cli(["color", "TiO2 60nm / Ti", "--angles", "0:60:30"])
+def test_colour_of_an_opaque_part_has_no_transmitted_colour(run_cli):
+    # Nothing comes through a titanium half-space, so nothing can be seen in transmission: no
+    # transmitted colour at any angle, luminous T 0 and all unreflected light in the substrate.
+    result = run_cli(["color", "TiO2 60nm / Ti", "--angles", "0:60:30", "--json"])
     assert result.exit_code == 0, result.stderr
-    angle_table = result.stdout.split("Colour versus viewing angle")[1]
-    assert "absorbs it" in angle_table
+    data = json.loads(result.stdout)
+    assert data["transmitted"] is None and data["transmission"] == "opaque"
+    assert all(entry["transmitted"] is None for entry in data["angles"])
+    lum = data["luminous"]
+    assert lum["T"] == 0.0
+    assert lum["A_layers"] + lum["A_substrate"] == pytest.approx(1 - lum["R"], abs=1e-12)
+    table = run_cli(["color", "TiO2 60nm / Ti", "--angles", "0:60:30"]).stdout
+    assert "transmitted" not in table and "T L*" not in table
 
 
 # -- fit -----------------------------------------------------------------------------------------

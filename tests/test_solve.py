@@ -457,13 +457,16 @@ def test_least_squares_interval_is_delta_chi2_of_one():
 
 
 def test_no_transmission_companions_on_an_opaque_substrate(run_cli):
-    # Titanium as a half-space absorbs what enters it: no light comes out behind, so there is no
-    # luminous T to report and no eye-protection caution to give.
+    # Titanium as a half-space absorbs what enters it: no light comes out behind, so luminous T is
+    # 0, there is no transmitted tint and no eye-protection caution to give.
     result = run_cli(["solve", "TiO2 ? / Ti", "--lab", "40,10,-40", "--range", "0:250", "--json"])
     assert result.exit_code == 0, result.stderr
     cp = json.loads(result.stdout)["solutions"][0]["companions"]
-    assert cp["luminous_T"] is None and cp["transmitted_ab"] is None
-    assert cp["absorptance"] == pytest.approx(1 - cp["luminous_R"])   # by definition: all not reflected
+    assert cp["luminous_T"] == 0.0 and cp["transmitted_ab"] is None
+    # By definition (R + T + A = 1, A = A_layers + A_substrate): all not reflected is absorbed.
+    assert cp["absorptance"] == pytest.approx(1 - cp["luminous_R"], abs=1e-12)
+    assert cp["absorptance_layers"] + cp["absorptance_substrate"] == pytest.approx(cp["absorptance"], abs=1e-12)
+    assert cp["absorptance_substrate"] > 0.5   # most of it in the titanium
     assert "CAUTION" not in result.stderr
 
 

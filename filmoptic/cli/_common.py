@@ -34,6 +34,7 @@ __all__ = [
     "echo_caution",
     "WavelengthsType",
     "FractionType",
+    "transmission_note",
 ]
 
 
@@ -253,3 +254,12 @@ def progress(length: int, label: str):
 def echo_caution(text: str, as_json: bool = False) -> None:
     """Print a safety caution on stderr (so that --json output stays clean)."""
     click.secho(f"CAUTION: {text}", err=True, fg="yellow")
+
+def transmission_note(meaning: str) -> str | None:
+    """The one line said under a table about what T means, for a half-space substrate (shared
+    with spectrum, sweep and solve); None for a slab, where T is plainly what comes out."""
+    from filmoptic.engine import TRANSMISSION_MEANINGS
+
+    if meaning == "exits":
+        return None
+    return "note: " + TRANSMISSION_MEANINGS[meaning] + "."

@@ -44,7 +44,8 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
       thickness   the thinnest layer that meets the target (or best colour match)
       Tv, Rv      luminous transmittance and reflectance from the coated side (ISO 9050, D65)
       Rv back     luminous reflectance seen through the substrate
-      A           luminous-weighted absorptance (light turned into heat in the film)
+      A film      luminous-weighted absorptance of the layer (light turned into heat in the film)
+      A subst     the same for the substrate (a glass plate's own absorption)
       C* refl/trans  CIELAB chroma of the tint: 0 is neutral grey, above ~5 a visible tint
       per nm      how far a 1 nm thickness error moves the target (percentage points, or ΔE00)
 
@@ -83,7 +84,8 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
         click.echo(f"Condition: {c.label()}" + ("" if c.kind == "colour" else f" = {percent(c.value)} %"))
     click.echo(f"Substrate: {table.substrate}")
     click.echo("")
-    headers = ["material", "thickness (nm)", "Tv %", "Rv %", "Rv back %", "A %", "C* refl", "C* back",
+    headers = ["material", "thickness (nm)", "Tv %", "Rv %", "Rv back %", "A film %", "A subst %",
+               "C* refl", "C* back",
                "C* trans", "ΔE00 per nm" if colour_target else "% per nm"]
     rows = []
     notes = []
@@ -97,7 +99,8 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
             thickness += f" ({c.low_nm:.1f}–{c.high_nm:.1f})"
         change = _num(c.change_per_nm, ".3f") if colour_target else percent(c.change_per_nm, 3)
         rows.append([c.material, thickness, percent(c.luminous_T), percent(c.luminous_R),
-                     percent(c.luminous_R_reverse), percent(c.absorptance), _num(c.reflected_chroma, ".1f"),
+                     percent(c.luminous_R_reverse), percent(c.absorptance_layers),
+                     percent(c.absorptance_substrate), _num(c.reflected_chroma, ".1f"),
                      _num(c.reflected_reverse_chroma, ".1f"), _num(c.transmitted_chroma, ".1f"), change])
     print_table(headers, rows)
     for note in notes:

@@ -182,8 +182,9 @@ def condition_json(condition) -> dict:
 def needs_eye_caution(conditions, solutions) -> bool:
     low_target = any(getattr(c, "quantity", "") == "luminous_T" and c.value < EYE_CAUTION_BELOW
                      for c in conditions)
+    # An opaque part (T exactly 0: nothing comes through an absorbing half-space) is no filter.
     low_answer = any(s.companions is not None and s.companions.luminous_T is not None
-                     and s.companions.luminous_T < EYE_CAUTION_BELOW for s in solutions)
+                     and 0 < s.companions.luminous_T < EYE_CAUTION_BELOW for s in solutions)
     return low_target or low_answer
 
 
@@ -220,7 +221,8 @@ def print_result(result, show_companions: bool) -> None:
     if len(conditions) > 1:
         headers.append("misfit")
     if show_companions:
-        headers += ["Tv %", "Rv %", "Rv back %", "A %", "a*b* refl", "a*b* back", "a*b* trans"]
+        headers += ["Tv %", "Rv %", "Rv back %", "A layers %", "A subst %", "a*b* refl", "a*b* back",
+                    "a*b* trans"]
     rows = []
     for i, s in enumerate(result.solutions, 1):
         row = [i, f"{s.thickness_nm:.2f}", f"{s.low_nm:.2f}", f"{s.high_nm:.2f}"]
@@ -236,8 +238,8 @@ def print_result(result, show_companions: bool) -> None:
         if show_companions and s.companions is not None:
             cp = s.companions
             row += [percent(cp.luminous_T), percent(cp.luminous_R), percent(cp.luminous_R_reverse),
-                    percent(cp.absorptance), _fmt_ab(cp.reflected_ab), _fmt_ab(cp.reflected_reverse_ab),
-                    _fmt_ab(cp.transmitted_ab)]
+                    percent(cp.absorptance_layers), percent(cp.absorptance_substrate),
+                    _fmt_ab(cp.reflected_ab), _fmt_ab(cp.reflected_reverse_ab), _fmt_ab(cp.transmitted_ab)]
         rows.append(row)
     click.echo("")
     print_table(headers, rows)
@@ -249,7 +251,8 @@ def print_result(result, show_companions: bool) -> None:
         click.echo("Best matches (local minima of the misfit), best first.")
     if show_companions:
         click.echo("Tv, Rv: luminous transmittance and reflectance (ISO 9050, D65); 'back' is seen through "
-                   "the substrate; a*b* is the CIELAB tint (D65).")
+                   "the substrate; A: light absorbed in the layers and in the substrate (luminous); a*b* "
+                   "is the CIELAB tint (D65).")
 
 
 @dataclass(frozen=True)
@@ -485,8 +488,9 @@ def solve(stack, range_text, step, readings_path, column, out, angle, ambient, e
     from --uncertainty, the achieved value and the slope (change per nm), so you can see how
     tightly the thickness must be held. A colour target lists the best matches with their ΔE00 (with
     --uncertainty, only those within it, and the interval where ΔE00 stays within it). For a metal
-    layer the table adds what a semi-mirror buyer asks: luminous R from both sides, absorptance, and
-    the tints.
+    layer the table adds what a semi-mirror buyer asks: luminous R from both sides, the light
+    absorbed in the layers and in the substrate (a glass plate's own absorption, or all that enters
+    a metal or silicon half-space, where T is 0), and the tints.
 
     If the condition cannot be met in the range the command says so, names the closest reachable
     value and where, and exits with status 2.
