@@ -181,7 +181,7 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
 
     media, thickness_specs, incoherent = _media_of(stack)
     free_thickness = _free_thickness_columns(stack)
-    batch_shape, table = _thickness_table(thickness_specs, free_thickness, thickness_nm)
+    batch_shape, table = _thickness_table(thickness_specs, free_thickness, thickness_nm, _consumed(stack))
 
     # Every distinct material is evaluated once over the whole grid.
     cache: dict[int, np.ndarray] = {}
@@ -404,7 +404,8 @@ def _media_of(stack):
     incoherent = [False]
     for layer in stack.layers:
         media.append(layer.material)
-        specs.append(layer.thickness_nm)
+        # A metal under its native oxide ('Al 10nm + 2nm oxide') is thinner than deposited.
+        specs.append(layer.effective_nm() if hasattr(layer, "effective_nm") else layer.thickness_nm)
         incoherent.append(bool(layer.thick))
     substrate = stack.substrate
     media.append(substrate.material)
@@ -428,8 +429,17 @@ def _free_thickness_columns(stack) -> list:
     return list(columns())
 
 
-def _thickness_table(specs, columns, thickness_nm):
-    """Per medium: None (semi-infinite) or an array of shape (B,) or (1,) of thicknesses."""
+def _consumed(stack) -> list:
+    """For each inner medium, the metal consumed by a native oxide (nm) from a free thickness."""
+    return [getattr(layer, "consumed_nm", 0.0) for layer in (*stack.layers, stack.substrate)]
+
+
+def _thickness_table(specs, columns, thickness_nm, consumed=None):
+    """Per medium: None (semi-infinite) or an array of shape (B,) or (1,) of thicknesses.
+
+    ``consumed`` (per inner medium) is taken off a free thickness: the unknown is the metal
+    deposited, the layer what its native oxide leaves of it (not below 0).
+    """
     from filmoptic.params import is_free
 
     n_free = 1 + max((c for c in columns if c is not None), default=-1)
@@ -455,15 +465,17 @@ def _thickness_table(specs, columns, thickness_nm):
 
     table = []
     inner = iter(columns)
+    used = iter(consumed or ())
     for i, spec in enumerate(specs):
         if i == 0 or spec is None:
             table.append(None)
             continue
         column = next(inner, None)
+        taken = next(used, 0.0)
         if is_free(spec):
             if column is None:
                 raise FilmopticError("the stack has an unknown thickness; give it a number first")
-            table.append(values[:, column])
+            table.append(np.maximum(values[:, column] - taken, 0.0) if taken else values[:, column])
         else:
             table.append(np.array([float(spec)]))
     return batch_shape, table

@@ -259,7 +259,7 @@ def covered_range_nm(stack, extrapolate=False) -> tuple[float, float]:
 
     >>> from filmoptic.stack import parse_stack
     >>> covered_range_nm(parse_stack("Ti ? / glass 4mm"))
-    (310.0, 1690.0)
+    (300.0, 1690.0)
     >>> covered_range_nm(parse_stack("n=2 ? / n=1.5", ambient="n=1"))
     (0.0, inf)
     """

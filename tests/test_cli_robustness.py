@@ -181,12 +181,25 @@ def test_unreadable_nk_files_are_explained(run_cli, in_tmp, content, fragment):
     assert_user_error(run_cli(["spectrum", "file:bad.txt 10nm / glass"]), fragment)
 
 
-def test_air_outside_its_table_suggests_a_constant_ambient(run_cli):
-    # The default ambient, air (Ciddor 1996), is tabulated to 1690 nm; Ge to well beyond.
-    result = run_cli(["spectrum", "Ge 100nm / glass", "--wl", "2000"])
-    assert_user_error(result, "air", "--ambient n=1.000")
+def test_air_serves_every_wavelength_the_layers_cover(run_cli):
+    # Ciddor 1996 is tabulated to 1690 nm; beyond, its formula tends to n − 1 = 2.73e-4, so an
+    # infrared mirror needs no --ambient. Silver measured to 20 µm (Ciesielski 2017) on sapphire
+    # (Malitson 1972, to 5 µm), 400–2500 nm, with the default ambient:
+    result = run_cli(["spectrum", "Ag:Ciesielski-2017-Ge 150nm / sapphire 1mm", "--wl", "400:2500:100",
+                      "--json"])
+    assert result.exit_code == 0, result.stderr
+    assert "warning" not in result.stderr               # nothing worth a warning
+    data = json.loads(result.stdout)
+    assert len(data["R"]) == 22 and min(data["R"][3:]) > 0.9   # an opaque silver mirror
+
+
+def test_a_liquid_ambient_outside_its_table_suggests_a_constant(run_cli):
+    # Water by Daimon & Masumura 2007 is given to 1129 nm; a liquid barely disperses, so the
+    # message offers its index at the table's end as a constant.
+    result = run_cli(["spectrum", "MgF2 100nm / fused-silica", "--wl", "1500", "--ambient", "water:Daimon-2007"])
+    assert_user_error(result, "water", "--ambient n=1.3")
     suggestion = result.stderr.split("--ambient ")[1].split(")")[0]
-    fixed = run_cli(["spectrum", "Ge 100nm / glass", "--wl", "2000", "--ambient", suggestion])
+    fixed = run_cli(["spectrum", "MgF2 100nm / fused-silica", "--wl", "1500", "--ambient", suggestion])
     assert fixed.exit_code == 0, fixed.stderr
 
 

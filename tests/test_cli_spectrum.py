@@ -39,8 +39,9 @@ def test_json_has_fractions_and_nothing_else(run_cli):
     np.testing.assert_allclose(np.add(data["A_layers"], data["A_substrate"]), data["A"], atol=1e-15)
     assert data["polarization"] == "unpolarized" and data["reverse"] is False
     assert data["transmission"] == "exits"
-    # 3 mm of clear float absorbs a little of what the titanium passes (its iron; Vogt 2016 table).
-    assert all(0 < v < 0.01 for v in data["A_substrate"])
+    # 3 mm of clear float absorbs a little of what the titanium passes (its iron: Vogt et al.,
+    # IEEE J. Photovolt. 6, 111 (2016), 703 ppm Fe2O3; the absorption rises towards 1000 nm).
+    assert all(0.004 < v < 0.02 for v in data["A_substrate"])
     assert all(0 <= v <= 1 for v in data["R"] + data["T"] + data["A"])
 
 

@@ -17,7 +17,8 @@ def test_json_has_exactly_the_documented_keys(run_cli):
     result = run_cli(["color", "Ti 12nm / glass 4mm", "--json"])
     assert result.exit_code == 0, result.stderr
     data = json.loads(result.stdout)
-    assert set(data) == {"reflected", "reflected_reverse", "transmitted", "luminous", "transmission"}
+    assert set(data) == {"reflected", "reflected_reverse", "transmitted", "luminous", "transmission",
+                         "surface_oxides"}
     for key in ("reflected", "reflected_reverse", "transmitted"):
         assert set(data[key]) == COLOUR_KEYS
         assert len(data[key]["XYZ"]) == 3 and len(data[key]["xy"]) == 2
@@ -49,7 +50,7 @@ def test_angles_add_a_list_and_a_table(run_cli):
     result = run_cli(["color", "Ti 12nm / glass 4mm", "--angles", "0:60:15", "--json"])
     data = json.loads(result.stdout)
     assert set(data) == {"reflected", "reflected_reverse", "transmitted", "luminous", "transmission",
-                         "angles"}
+                         "surface_oxides", "angles"}
     assert [entry["angle_deg"] for entry in data["angles"]] == [0, 15, 30, 45, 60]
     # The 0° entry is the main result (default --angle 0).
     assert data["angles"][0]["reflected"]["Lab"] == pytest.approx(data["reflected"]["Lab"])

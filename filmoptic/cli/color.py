@@ -17,6 +17,8 @@ from filmoptic.cli._common import (
     save_plot,
     user_errors,
     transmission_note,
+    echo_surface_oxides,
+    warn_thin_metal,
 )
 
 __all__ = ["color", "illuminant_option", "observer_option", "colour_json", "LOW_LIGHT_CAUTION",
@@ -77,13 +79,15 @@ def _colour_row(label, colour) -> list:
             f"{x:.4f}", f"{y:.4f}", f"{float(colour.XYZ[1]):.2f}", colour.hex + mark]
 
 
-def _main_tables(result, title) -> None:
+def _main_tables(result, title, stack=None) -> None:
     rows = []
     for key, label in _VIEWS:
         colour = getattr(result, key)
         if colour is not None:
             rows.append(_colour_row(label, colour))
     print_table(["view", "L*", "a*", "b*", "C*", "h°", "x", "y", "Y", "sRGB"], rows, title=title)
+    if stack is not None:
+        echo_surface_oxides(stack)
     lum = result.luminous
     click.echo("")
     lum_rows = [["transmittance T", percent(lum.T)], ["reflectance R, coated side", percent(lum.R)]]
@@ -207,7 +211,8 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
     With --json the output holds the keys reflected, reflected_reverse (null for a half-space
     substrate), transmitted (null when no light comes through), luminous (T, R, R_reverse,
     A_layers, A_substrate as fractions) and transmission (what T means: exits, enters substrate
-    or opaque), plus angles when --angles is given.
+    or opaque) and surface_oxides (what 'METAL D + Xnm oxide' expanded to), plus angles when
+    --angles is given.
 
     Colours on screen and in print depend on the device; compare physical samples under the
     chosen light before promising a colour to a customer.
@@ -228,6 +233,7 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
         result = appearance(parsed, illuminant=illuminant, observer=obs, angle_deg=angle, extrapolate=extrapolate)
         by_angle = (appearance(parsed, illuminant=illuminant, observer=obs, angle_deg=angle_list,
                                extrapolate=extrapolate) if angle_list is not None else None)
+        warn_thin_metal(parsed)
 
     if swatch_path:
         # Written before anything is printed, so that a failure leaves no half report on stdout.
@@ -245,6 +251,7 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
             "transmitted": None if result.transmitted is None else colour_json(result.transmitted),
             "luminous": _luminous_json(result.luminous),
             "transmission": result.transmission,
+            "surface_oxides": list(parsed.surface_oxides()),
         }
         if by_angle is not None:
             payload["angles"] = _angles_json(angle_list, by_angle)
@@ -252,7 +259,7 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
     else:
         title = (f"Colour of {stack!r} — illuminant {label}, {obs}° observer, {angle:g}° incidence, "
                  f"ambient {ambient}")
-        _main_tables(result, title)
+        _main_tables(result, title, parsed)
         if by_angle is not None:
             click.echo("")
             print_table(_angle_headers(by_angle), _angle_rows(angle_list, by_angle),

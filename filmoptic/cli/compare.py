@@ -18,6 +18,20 @@ from filmoptic.cli._common import (
 from filmoptic.cli.solve import EYE_CAUTION, build_conditions, condition_json, condition_options, needs_eye_caution
 
 
+def _warn_thin_metals(table, ambient) -> None:
+    """One warning line for every candidate whose answer is thinner than its film constants allow."""
+    from filmoptic.materials.films import thin_metal_warning
+    from filmoptic.stack import parse_stack
+
+    layers = []
+    for c in table.candidates:
+        if c.thickness_nm is not None:
+            layers += parse_stack(c.stack, ambient=ambient).metal_layers(c.thickness_nm)
+    message = thin_metal_warning(layers)
+    if message:
+        click.echo(f"filmoptic: warning: {message}", err=True)
+
+
 def _num(value, fmt):
     return "–" if value is None else format(value, fmt)
 
@@ -52,6 +66,12 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
     Example:
 
         filmoptic compare Ti Cr Ni Al Ag --on "glass 4mm" --luminous-T 30%
+        filmoptic compare "Al + 2nm oxide" "Ti + 3nm oxide" Ag --on "glass 4mm" --luminous-T 30%
+
+    A candidate written 'METAL + Xnm oxide' carries the native oxide air grows on it (see
+    'filmoptic spectrum --help'); its thickness is the metal deposited. When an answer puts a
+    metal below the thickness where its tabulated constants describe a continuous film (about
+    5 nm for Ti, Cr, Ni, Al; 10-12 nm for Ag, Au, Cu), a warning says so.
 
     A thin metal film's optical constants differ from the bulk values in the tables; treat the
     thicknesses as a starting point for a calibration run.
@@ -71,6 +91,7 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
         raise TargetError("no candidate meets the target: " + "; ".join(c.note for c in table.candidates))
     if needs_eye_caution(conditions, solved):
         echo_caution(EYE_CAUTION)
+    _warn_thin_metals(table, ambient)
     if as_json:
         emit_json({
             "substrate": table.substrate,

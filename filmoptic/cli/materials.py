@@ -73,13 +73,15 @@ def _list(kind, as_json):
         emit_json([_info_json(i) for i in infos])
         return
     rows = [
-        [i.name, ("* " if i.default else "  ") + i.dataset, i.kind,
+        [i.name, ("* " if i.default else "  ") + i.dataset, i.kind, i.form or "–",
          format_range_nm(i.wavelength_range_nm), i.short_reference]
         for i in infos
     ]
-    print_table(["name", "dataset", "kind", "range", "reference"], rows)
+    print_table(["name", "dataset", "kind", "measured on", "range", "reference"], rows)
     click.echo("\n* default dataset; select another as NAME:DATASET. `filmoptic materials NAME` shows "
                "full citations and n, k.")
+    click.echo("measured on: a thin film (with its thickness: closest to films of that thickness), a "
+               "thick film, bulk material, or a model fitted to several sources.")
     folders = library_folders()
     if len(folders) > 1:
         click.echo(f"Your tables from {ENV_VAR}={folders[1][0]} are included.")
@@ -97,6 +99,7 @@ def _info_json(info, nk=None):
         "reference": info.reference,
         "citation": info.citation,
         "sample": info.sample,
+        "form": info.form,
         "wavelength_nm": list(info.wavelength_range_nm),
         "licence": info.licence,
         "aliases": list(info.aliases),
@@ -189,6 +192,7 @@ def _show(name, wl, plot_path, plot_range, as_json):
             fields = [
                 ("kind", info.kind),
                 ("sample", info.sample or "–"),
+                ("measured on", info.form or "–"),
                 ("range", format_range_nm(info.wavelength_range_nm)),
                 ("reference", info.reference or "–"),
                 ("licence", info.licence or "–"),

@@ -25,6 +25,8 @@ from filmoptic.cli._common import (
     to_jsonable,
     user_errors,
     write_atomically,
+    echo_surface_oxides,
+    warn_thin_metal,
 )
 
 #: Luminous transmittance below which a caution about eye protection is printed (common practice:
@@ -527,9 +529,11 @@ def solve(stack, range_text, step, readings_path, column, out, angle, ambient, e
         raise TargetError(result.message)
     if needs_eye_caution(conditions, result.solutions):
         echo_caution(EYE_CAUTION)
+    warn_thin_metal(parsed, [s.thickness_nm for s in result.solutions])
     if as_json:
         emit_json({
             "stack": result.stack,
+            "surface_oxides": list(parsed.surface_oxides()),
             "layer": result.layer,
             "condition": condition_json(conditions[0]),
             "conditions": [condition_json(c) for c in conditions],
@@ -540,6 +544,7 @@ def solve(stack, range_text, step, readings_path, column, out, angle, ambient, e
         })
         return
     print_result(result, show_companions=_free_layer_kind(parsed) == "metal")
+    echo_surface_oxides(parsed)
 
 
 def _free_layer_kind(stack) -> str:

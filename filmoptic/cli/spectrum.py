@@ -21,6 +21,8 @@ from filmoptic.cli._common import (
     user_errors,
     write_atomically,
     transmission_note,
+    echo_surface_oxides,
+    warn_thin_metal,
 )
 
 __all__ = ["spectrum"]
@@ -83,7 +85,13 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
     light comes from the substrate side and --angle is measured in the medium there.
 
     --json gives stack, ambient, angle_deg, polarization, reverse, wavelength_nm, R, T, A,
-    A_layers, A_substrate and transmission (exits, enters substrate or opaque).
+    A_layers, A_substrate, transmission (exits, enters substrate or opaque) and surface_oxides.
+
+    A metal layer may carry the oxide air grows on it: 'Al 10nm + 2nm oxide' is 2 nm of Al2O3
+    on what is left of 10 nm of deposited aluminium once the oxide has consumed its share
+    (Pilling-Bedworth volume ratio); the output shows what it expanded to. A metal thinner than
+    about 5 nm (Ti, Cr, Ni, Al) or 10-12 nm (Ag, Au, Cu) is not the continuous film its tabulated
+    constants describe: a warning says so.
 
     Results are computed from published optical constants, not measured: real films differ
     (density, oxidation, roughness, interdiffusion). Never trust a computed filter for sun,
@@ -123,6 +131,7 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
                                             reverse, extrapolate)
         for message in dict.fromkeys(str(w.message) for w in caught):
             click.echo(f"filmoptic: warning: {' '.join(message.split())}", err=True)
+        warn_thin_metal(parsed)
 
         if csv_path:
             write_atomically(csv_path, lambda fh: _write_csv(fh, result))
@@ -151,9 +160,11 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
             "A_layers": result.A_layers,
             "A_substrate": result.A_substrate,
             "transmission": result.transmission,
+            "surface_oxides": list(parsed.surface_oxides()),
         })
         return
     click.echo(_title(parsed, angle, polarization, reverse))
+    echo_surface_oxides(parsed)
     rows = [
         [f"{w:g}", percent(r), percent(t), percent(a), percent(al), percent(asub)]
         for w, r, t, a, al, asub in zip(result.wavelength_nm, result.R, result.T, result.A,
