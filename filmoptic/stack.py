@@ -466,6 +466,9 @@ class _Parser:
     def item(self, label: str, raw: str) -> list:
         """The layers of one item before the substrate (a group expands to its repeats)."""
         text = raw.strip()
+        oxide = _OXIDE_RE.match(_outside_brackets(text))
+        if oxide:
+            return self._with_oxide(label, text, oxide, substrate=False)
         if text.startswith("["):
             inner, count = _group_parts(text, label)
             once = []
@@ -476,9 +479,6 @@ class _Parser:
                     f"item {label} {text!r}: expands to {len(once) * count} layers (at most {MAX_LAYERS})"
                 )
             return once * count
-        oxide = _OXIDE_RE.match(_outside_brackets(text))
-        if oxide:
-            return self._with_oxide(label, text, oxide, substrate=False)
         material, thickness, thick = self._material_and_thickness(label, text)
         if thickness is None:
             raise StackSyntaxError(
