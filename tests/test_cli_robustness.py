@@ -3,7 +3,7 @@ that would clobber inputs, files the system refuses.
 
 Every user mistake must end with one clear line on stderr and exit code 2 (never a traceback or
 an "internal error"), and nothing the user owns may be overwritten unless they named it as an
-output. These are facts of the tool's contract (README.md, CONVENTIONS.md), not of physics; the
+output. These are facts of the tool's contract (README.md and DEVELOPERS.md here), not of physics; the
 few physical facts used are marked "common practice".
 """
 
@@ -275,6 +275,14 @@ def test_fit_takes_pol_like_spectrum_and_spectrum_takes_polarization_like_fit(ru
     fitted = run_cli(["fit", "n=1.3..1.6 10..200nm / glass 1mm", "--measured", "T.csv", "--pol", "S",
                       "--max-grid", "200", "--starts", "1", "--json"])
     assert fitted.exit_code == 0, fitted.stderr
+    # '--pol S' reached the fit as s-polarised light: the command gives the API's answer.
+    from filmoptic.fit import fit_spectra
+    from filmoptic.measured import read_spectrum
+
+    api = fit_spectra("n=1.3..1.6 10..200nm / glass 1mm", [read_spectrum("T.csv")], polarization="s",
+                      max_grid=200, starts=1)
+    values = [p["value"] for p in json.loads(fitted.stdout)["parameters"]]
+    assert values == [p.value for p in api.parameters]
     spectrum = run_cli(["spectrum", STACK, "--wl", "550", "--polarization", "s", "--json"])
     assert json.loads(spectrum.stdout)["polarization"] == "s"
     assert os.path.exists("T.csv")

@@ -1,6 +1,6 @@
 """The engine against closed-form results of thin-film optics.
 
-Each check names where the formula comes from (see also REFERENCES.md). Indices are written as
+Each check names where the formula comes from. Indices are written as
 constants so that the formulas apply exactly; the few shipped tables used are named.
 """
 

@@ -246,7 +246,7 @@ def test_chunking_does_not_change_results(monkeypatch):
 
 
 def test_raw_indices_follow_the_sign_convention():
-    # N = n + i·k with k >= 0 (CONVENTIONS.md, as in tmm): a gain medium is refused.
+    # N = n + i·k with k >= 0 (the convention of tmm, Byrnes 2016): a gain medium is refused.
     with pytest.raises(FilmopticError, match="k >= 0"):
         compute_indices([1.0, 2.0 - 0.1j, 1.5], [10.0], [500.0])
     with pytest.raises(FilmopticError, match="one value per wavelength"):
