@@ -135,7 +135,8 @@ def sweep_chart(sweep, *, title: str | None = None):
              fontsize=9.5, va="center", color="0.25")
     if not see_through:
         fig.text(0.03, 0.068, "The substrate absorbs all light that enters it: only the reflected colour "
-                 "is seen (luminous R shown; the rest is absorbed).", fontsize=8, color="0.25", va="center")
+                 "is seen (luminous R shown, and where the light is absorbed).", fontsize=8, color="0.25",
+                 va="center")
     fig.text(0.03, 0.03,
              "Hatched along a strip's lower edge: outside the sRGB gamut, shown with reduced chroma at the same lightness "
              "and hue.  Computed from published optical constants; real films differ with density, roughness "
