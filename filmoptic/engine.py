@@ -201,7 +201,7 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
         incoherent = incoherent[::-1]
         media = media[::-1]
     indices[0] = _incident_index(media[0], indices[0], angles)
-    transmission, substrate_slab = _substrate_role(stack, indices, half_space, reverse)
+    transmission, substrate_slab = _substrate_role(indices, half_space, reverse)
 
     out_shape = batch_shape + angles.shape + wl.shape
     batch = math.prod(batch_shape)
@@ -246,7 +246,7 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
                     A_layers=A_layers, A_substrate=A_substrate, transmission=transmission)
 
 
-def _substrate_role(stack, indices, half_space, reverse):
+def _substrate_role(indices, half_space, reverse):
     """(what T means, index of the substrate slab among the media or None).
 
     Lit from the front, the substrate is the last medium (a half-space) or the last but one (a

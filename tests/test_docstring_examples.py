@@ -21,6 +21,7 @@ MODULES = [
     "filmoptic.materials.mixing",
     "filmoptic.materials.library",
     "filmoptic.materials.expression",
+    "filmoptic.materials.films",
     "filmoptic.stack",
     "filmoptic.engine",
     "filmoptic.measured",
