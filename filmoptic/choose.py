@@ -48,6 +48,8 @@ class Candidate:
     note : str
         Why there is no answer, or ``""``.
     solution : filmoptic.solve.Solution or None
+    absorptance_layers, absorptance_substrate : float or None
+        The split of ``absorptance``: in the candidate's layer, and in the substrate.
     """
 
     material: str
@@ -66,6 +68,8 @@ class Candidate:
     solutions: int
     note: str
     solution: object = None
+    absorptance_layers: float | None = None
+    absorptance_substrate: float | None = None
 
 
 @dataclass(frozen=True)
@@ -87,6 +91,18 @@ _LAYER_RE = re.compile(
 )
 
 
+# A candidate with its native oxide: 'Al + 2nm oxide' (see filmoptic.stack).
+_OXIDE_SUFFIX_RE = re.compile(r"^(?P<metal>.*?\S)\s+(?P<oxide>\+\s*[\d.]+\s*(?:nm|Å|A)\s+\S+)\s*$")
+
+
+def _candidate_stack(material: str, substrate: str) -> str:
+    """'Ti ? / glass 4mm', or 'Al ? + 2nm oxide / glass 4mm' for a candidate with its oxide."""
+    oxide = _OXIDE_SUFFIX_RE.match(material)
+    if oxide:
+        return f"{oxide.group('metal')} ? {oxide.group('oxide')} / {substrate}"
+    return f"{material} ? / {substrate}"
+
+
 def _check_candidate(material: str) -> None:
     """A candidate must be a material as written in stack notation, not a layer or a stack: compare
     supplies the unknown thickness and the substrate itself."""
@@ -94,6 +110,9 @@ def _check_candidate(material: str) -> None:
 
     if not material:
         raise FilmopticError("compare: a candidate material is empty")
+    oxide = _OXIDE_SUFFIX_RE.match(material)
+    if oxide:
+        material = oxide.group("metal")
     if "/" in material:
         raise FilmopticError(
             f"compare: {material!r} is a stack; give each candidate as a material name alone (e.g. Ti), "
@@ -137,7 +156,7 @@ def compare_materials(materials, substrate, conditions, *, range_nm=None, angle_
     >>> from filmoptic.solve import Target
     >>> table = compare_materials(["Ti", "Cr"], "glass 4mm", Target("luminous_T", 0.3))
     >>> [round(c.thickness_nm, 1) for c in table.candidates]
-    [9.1, 8.1]
+    [8.8, 7.8]
     """
     from .solve import ColourTarget, Reading, Target, solve_thickness
 
@@ -156,7 +175,7 @@ def compare_materials(materials, substrate, conditions, *, range_nm=None, angle_
         _check_candidate(material)
     candidates = []
     for material in materials:   # one solve per candidate; each is vectorised inside
-        stack = f"{material} ? / {substrate}"
+        stack = _candidate_stack(material, substrate)
         result = solve_thickness(stack, conditions, range_nm=range_nm, angle_deg=angle_deg,
                                  extrapolate=extrapolate, ambient=ambient)
         if not result.solutions:
@@ -182,5 +201,7 @@ def compare_materials(materials, substrate, conditions, *, range_nm=None, angle_
             solutions=len(result.solutions),
             note="",
             solution=best,
+            absorptance_layers=cp.absorptance_layers,
+            absorptance_substrate=cp.absorptance_substrate,
         ))
     return Comparison(substrate, conditions, tuple(candidates))

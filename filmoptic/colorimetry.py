@@ -947,11 +947,16 @@ class Luminous:
     """Luminous values (fractions 0–1) under the chosen illuminant (ISO 9050 with D65).
 
     ``R_reverse`` is None when the substrate is a half-space (there is no back side to look at).
+    ``A_layers`` and ``A_substrate`` split the light absorbed, weighted the same way
+    (T + R + A_layers + A_substrate = 1): in the coating, and in the substrate (inside a slab,
+    or everything that enters an absorbing half-space; ``T`` is then 0).
     """
 
     T: object
     R: object
     R_reverse: object = None
+    A_layers: object = None
+    A_substrate: object = None
 
 
 @dataclass(frozen=True)
@@ -964,10 +969,11 @@ class Appearance:
         Reflected from the coated side (light from the ambient).
     reflected_reverse : Colour or None
         Reflected from the substrate side; None when the substrate is a half-space.
-    transmitted : Colour
-        Transmitted (the same from either side).
+    transmitted : Colour or None
+        Transmitted (the same from either side); None when no light comes through (the
+        substrate is an absorbing half-space: a metal, silicon).
     luminous : Luminous
-        Luminous T, R and R_reverse.
+        Luminous T, R, R_reverse and the absorbed light, split between layers and substrate.
     angle_deg : float or numpy.ndarray
         The viewing angle(s); arrays above carry a leading angle axis when this is an array.
     illuminant : str
@@ -975,18 +981,22 @@ class Appearance:
     observer : int
         2 or 10.
     transmission_exits : bool
-        False when the substrate is an absorbing half-space (a metal, silicon): the transmitted
-        light then enters the substrate and is absorbed there, so nobody sees it.
+        False when the substrate is an absorbing half-space (a metal, silicon): no light comes
+        through, ``transmitted`` is None and luminous T is 0.
+    transmission : str
+        What T means, as :attr:`filmoptic.engine.Spectrum.transmission`: ``"exits"``,
+        ``"enters substrate"`` or ``"opaque"``.
     """
 
     reflected: Colour
     reflected_reverse: Colour | None
-    transmitted: Colour
+    transmitted: Colour | None
     luminous: Luminous
     angle_deg: object = 0.0
     illuminant: str = "D65"
     observer: int = 2
     transmission_exits: bool = True
+    transmission: str = "exits"
 
 
 def _stack_from(stack, ambient):
@@ -1054,19 +1064,23 @@ def appearance(stack, *, illuminant="D65", observer=2, angle_deg=0.0, ambient=No
     def col(values):
         return colour_of(wl, values, illuminant, obs)
 
+    opaque = front.transmission == "opaque"
     return Appearance(
         reflected=col(front.R),
         reflected_reverse=col(back.R) if has_back else None,
-        transmitted=col(front.T),
+        transmitted=None if opaque else col(front.T),
         luminous=Luminous(
             T=luminous(wl, front.T, illuminant),
             R=luminous(wl, front.R, illuminant),
             R_reverse=luminous(wl, back.R, illuminant) if has_back else None,
+            A_layers=luminous(wl, front.A_layers, illuminant),
+            A_substrate=luminous(wl, front.A_substrate, illuminant),
         ),
         angle_deg=angle_arg,
         illuminant=label,
         observer=obs,
-        transmission_exits=transmission_exits(stack, wl, extrapolate=extrapolate),
+        transmission_exits=not opaque,
+        transmission=front.transmission,
     )
 
 
@@ -1075,7 +1089,7 @@ def transmission_exits(stack, wavelength_nm=None, *, extrapolate=False) -> bool:
 
     True for a substrate slab (``glass 4mm``: light leaves through its back) and for a
     non-absorbing half-space (light travels on inside it); False for an absorbing half-space such
-    as a metal or silicon, where the transmittance is light absorbed in the substrate. This is
+    as a metal or silicon, where what enters is absorbed in the substrate. This is
     :meth:`filmoptic.stack.Stack.substrate_passes_light` judged over the visible part of the grid,
     the light a colour is made of.
     """
@@ -1101,18 +1115,23 @@ class ColourSweep:
     thickness_nm : numpy.ndarray
         The thicknesses, shape ``(n,)``.
     reflected, transmitted : Colour
-        Batches of ``n`` colours (reflected from the coated side; transmitted).
+        Batches of ``n`` colours (reflected from the coated side; transmitted). ``transmitted``
+        is None when no light comes through (an absorbing half-space substrate).
     luminous_T, luminous_R : numpy.ndarray
         Luminous transmittance and reflectance, fractions, shape ``(n,)``.
+    luminous_A_layers, luminous_A_substrate : numpy.ndarray
+        The light absorbed in the layers and in the substrate, weighted the same way.
     stack_text, illuminant, observer, angle_deg, ambient
         What was computed, for labels.
     transmission_exits : bool
-        False when the substrate is an absorbing half-space (see :func:`transmission_exits`).
+        False when the substrate is an absorbing half-space (luminous T is then 0).
+    transmission : str
+        What T means, as :attr:`filmoptic.engine.Spectrum.transmission`.
     """
 
     thickness_nm: np.ndarray
     reflected: Colour
-    transmitted: Colour
+    transmitted: Colour | None
     luminous_T: np.ndarray
     luminous_R: np.ndarray
     stack_text: str = ""
@@ -1121,6 +1140,9 @@ class ColourSweep:
     angle_deg: float = 0.0
     ambient: str = "air"
     transmission_exits: bool = True
+    luminous_A_layers: np.ndarray | None = None
+    luminous_A_substrate: np.ndarray | None = None
+    transmission: str = "exits"
 
 
 def _free_thickness_index(stack) -> int:
@@ -1212,28 +1234,36 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
 
     xyz_w = tristimulus_weights(wl, illuminant, obs)
     lum_w = luminous_weights(wl, illuminant)
-    R_xyz, T_xyz, R_lum, T_lum = [], [], [], []
+    R_xyz, T_xyz, R_lum, T_lum, AL_lum, AS_lum = [], [], [], [], [], []
+    meaning = "exits"
     for start in range(0, d.size, SWEEP_BLOCK):
         block = d[start:start + SWEEP_BLOCK]
         spectrum = compute(stack, wl, angle_deg=angle, polarization="unpolarized",
                            thickness_nm=block[:, None], extrapolate=extrapolate)
+        meaning = spectrum.transmission
         R_xyz.append(spectrum.R @ xyz_w)
         T_xyz.append(spectrum.T @ xyz_w)
         R_lum.append(spectrum.R @ lum_w)
         T_lum.append(spectrum.T @ lum_w)
+        AL_lum.append(spectrum.A_layers @ lum_w)
+        AS_lum.append(spectrum.A_substrate @ lum_w)
         if progress is not None:
             progress(block.size)
     ambient_name = getattr(stack.ambient, "name", "air")
+    opaque = meaning == "opaque"
     return ColourSweep(
         thickness_nm=d,
         reflected=colour_from_XYZ(np.concatenate(R_xyz), wl, illuminant, obs),
-        transmitted=colour_from_XYZ(np.concatenate(T_xyz), wl, illuminant, obs),
+        transmitted=None if opaque else colour_from_XYZ(np.concatenate(T_xyz), wl, illuminant, obs),
         luminous_T=np.concatenate(T_lum),
         luminous_R=np.concatenate(R_lum),
+        luminous_A_layers=np.concatenate(AL_lum),
+        luminous_A_substrate=np.concatenate(AS_lum),
+        transmission=meaning,
         stack_text=getattr(stack, "text", ""),
         illuminant=label,
         observer=obs,
         angle_deg=angle,
         ambient=ambient_name,
-        transmission_exits=transmission_exits(stack, wl, extrapolate=extrapolate),
+        transmission_exits=not opaque,
     )

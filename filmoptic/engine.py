@@ -46,10 +46,21 @@ import numpy as np
 
 from filmoptic.errors import FilmopticError
 
-__all__ = ["Spectrum", "POLARIZATIONS", "compute", "compute_indices", "CHUNK_BYTES"]
+__all__ = ["Spectrum", "POLARIZATIONS", "TRANSMISSION_MEANINGS", "compute", "compute_indices",
+           "CHUNK_BYTES"]
 
 #: The polarisation names :func:`compute` accepts.
 POLARIZATIONS = ("s", "p", "unpolarized")
+
+#: What :attr:`Spectrum.T` means, by the kind of substrate (see :class:`Spectrum`), in words the
+#: command line prints once under a table.
+TRANSMISSION_MEANINGS = {
+    "exits": "T is the light that leaves the substrate's back face",
+    "enters substrate": "T is the light that enters the half-space substrate (its back face is "
+                        "not modelled; give the substrate a thickness in mm to include it)",
+    "opaque": "the substrate is an absorbing half-space: no light comes through (T = 0); what "
+              "enters it is counted as absorbed in the substrate",
+}
 
 #: Memory budget of one chunk of the grid, in bytes (the engine's working arrays stay under it).
 CHUNK_BYTES = 64 * 2**20
@@ -83,7 +94,21 @@ class Spectrum:
     polarization : str
         ``"s"``, ``"p"`` or ``"unpolarized"`` (the mean of s and p).
     R, T, A : numpy.ndarray
-        Shape ``(*batch, *numpy.shape(angle_deg), W)``; ``A = 1 − R − T``.
+        Shape ``(*batch, *numpy.shape(angle_deg), W)``; ``A = 1 − R − T``. ``T`` is the light
+        that leaves the part on its far side: behind a substrate slab, the light reaching the
+        exit medium; for a practically transparent half-space substrate, the light entering it
+        (it would leave through the back face of any real plate, less that face's reflection);
+        for an absorbing half-space (a metal, silicon) zero, since what enters it never
+        comes out.
+    A_layers, A_substrate : numpy.ndarray
+        The split of ``A`` (same shape, ``A = A_layers + A_substrate``): light absorbed in the
+        layers (every item before the substrate, thick slabs among them included) and in the
+        substrate (inside a substrate slab, or everything that enters an absorbing
+        half-space).
+    transmission : str
+        What ``T`` means for this stack, from :data:`TRANSMISSION_MEANINGS`: ``"exits"`` (a
+        substrate slab: light reaching the exit medium), ``"enters substrate"`` (a practically
+        transparent half-space) or ``"opaque"`` (an absorbing half-space; ``T`` is zero).
     """
 
     wavelength_nm: np.ndarray
@@ -92,6 +117,9 @@ class Spectrum:
     R: np.ndarray
     T: np.ndarray
     A: np.ndarray
+    A_layers: np.ndarray
+    A_substrate: np.ndarray
+    transmission: str = "exits"
 
 
 # ----------------------------------------------------------------------------------------------
@@ -153,7 +181,7 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
 
     media, thickness_specs, incoherent = _media_of(stack)
     free_thickness = _free_thickness_columns(stack)
-    batch_shape, table = _thickness_table(thickness_specs, free_thickness, thickness_nm)
+    batch_shape, table = _thickness_table(thickness_specs, free_thickness, thickness_nm, _consumed(stack))
 
     # Every distinct material is evaluated once over the whole grid.
     cache: dict[int, np.ndarray] = {}
@@ -164,33 +192,74 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
             cache[key] = np.asarray(material.nk(wl, extrapolate=extrapolate), dtype=complex)
         indices.append(cache[key])
 
+    half_space = stack.substrate.thickness_nm is None
     if reverse:
-        if stack.substrate.thickness_nm is None:
+        if half_space:
             _check_entry_through_substrate(stack.substrate, indices[-1], wl)
         indices = indices[::-1]
         table = table[::-1]
         incoherent = incoherent[::-1]
         media = media[::-1]
     indices[0] = _incident_index(media[0], indices[0], angles)
+    transmission, substrate_slab = _substrate_role(indices, half_space, reverse)
 
     out_shape = batch_shape + angles.shape + wl.shape
     batch = math.prod(batch_shape)
     if batch == 0 or angles.size == 0:
         empty = np.empty(out_shape)
         return Spectrum(wavelength_nm=wl, angle_deg=angles, polarization=pol, R=empty,
-                        T=empty.copy(), A=empty.copy())
-    R, T = _solve(indices, table, incoherent, wl, angles.reshape(-1), pol)
+                        T=empty.copy(), A=empty.copy(), A_layers=empty.copy(),
+                        A_substrate=empty.copy(), transmission=transmission)
+    R, T, A_slab = _solve(indices, table, incoherent, wl, angles.reshape(-1), pol,
+                          absorber=substrate_slab)
     if R.shape[0] != batch:
         # No thickness varies across the batch (e.g. K = 0): the same answer for every member.
         R = np.repeat(R, batch, axis=0)
         T = np.repeat(T, batch, axis=0)
+        if A_slab is not None:
+            A_slab = np.repeat(A_slab, batch, axis=0)
     R = R.reshape(out_shape)
     T = T.reshape(out_shape)
+    if transmission == "opaque":
+        # Everything that enters an absorbing half-space stays there.
+        A_substrate, T = T, np.zeros(out_shape)
+    elif A_slab is not None:
+        A_substrate = A_slab.reshape(out_shape)
+        # Where no layer absorbs, all the light lost is the slab's. (The interference term of
+        # the waves at the face of an absorbing slab, of order k, would otherwise be left over
+        # and credited to lossless layers.)
+        lossless = ~np.any([N.imag > 0 for i, N in enumerate(indices)
+                            if 0 < i < len(indices) - 1 and i != substrate_slab], axis=0)
+        A_substrate = np.where(lossless, 1.0 - R - T, A_substrate)
+        # A slab without absorption absorbs nothing (not even rounding).
+        A_substrate = np.where(indices[substrate_slab].imag > 0, A_substrate, 0.0)
+    else:
+        A_substrate = np.zeros(out_shape)
     A = np.subtract(1.0, R)
     A -= T
     np.clip(A, 0.0, 1.0, out=A)
+    np.clip(A_substrate, 0.0, None, out=A_substrate)
+    np.minimum(A_substrate, A, out=A_substrate)
+    A_layers = np.subtract(A, A_substrate)
     angle_out = float(angles) if angles.ndim == 0 else angles
-    return Spectrum(wavelength_nm=wl, angle_deg=angle_out, polarization=pol, R=R, T=T, A=A)
+    return Spectrum(wavelength_nm=wl, angle_deg=angle_out, polarization=pol, R=R, T=T, A=A,
+                    A_layers=A_layers, A_substrate=A_substrate, transmission=transmission)
+
+
+def _substrate_role(indices, half_space, reverse):
+    """(what T means, index of the substrate slab among the media or None).
+
+    Lit from the front, the substrate is the last medium (a half-space) or the last but one (a
+    slab, with the exit medium behind it). Lit from behind, a slab is the first medium after the
+    incident one and a half-space is the incident medium itself (no substrate absorption).
+    """
+    from filmoptic.materials import is_practically_transparent
+
+    if not half_space:
+        return "exits", (1 if reverse else len(indices) - 2)
+    if reverse or is_practically_transparent(indices[-1]):
+        return "enters substrate", None
+    return "opaque", None
 
 
 def compute_indices(indices, thickness_nm, wavelength_nm, *, incoherent=None, angle_deg=0.0,
@@ -254,7 +323,7 @@ def compute_indices(indices, thickness_nm, wavelength_nm, *, incoherent=None, an
     flags = [False] + incoherent + [False]
     if np.any(np.abs(indices[0].imag) > 0) and np.any(angles > 0):
         raise FilmopticError("an angle of incidence needs a non-absorbing incident medium")
-    R, T = _solve(indices, table, flags, wl, angles.reshape(-1), pol)
+    R, T, _ = _solve(indices, table, flags, wl, angles.reshape(-1), pol)
     shape = batch_shape + angles.shape + wl.shape
     return R.reshape(shape), T.reshape(shape)
 
@@ -335,7 +404,8 @@ def _media_of(stack):
     incoherent = [False]
     for layer in stack.layers:
         media.append(layer.material)
-        specs.append(layer.thickness_nm)
+        # A metal under its native oxide ('Al 10nm + 2nm oxide') is thinner than deposited.
+        specs.append(layer.effective_nm() if hasattr(layer, "effective_nm") else layer.thickness_nm)
         incoherent.append(bool(layer.thick))
     substrate = stack.substrate
     media.append(substrate.material)
@@ -359,8 +429,17 @@ def _free_thickness_columns(stack) -> list:
     return list(columns())
 
 
-def _thickness_table(specs, columns, thickness_nm):
-    """Per medium: None (semi-infinite) or an array of shape (B,) or (1,) of thicknesses."""
+def _consumed(stack) -> list:
+    """For each inner medium, the metal consumed by a native oxide (nm) from a free thickness."""
+    return [getattr(layer, "consumed_nm", 0.0) for layer in (*stack.layers, stack.substrate)]
+
+
+def _thickness_table(specs, columns, thickness_nm, consumed=None):
+    """Per medium: None (semi-infinite) or an array of shape (B,) or (1,) of thicknesses.
+
+    ``consumed`` (per inner medium) is taken off a free thickness: the unknown is the metal
+    deposited, the layer what its native oxide leaves of it (not below 0).
+    """
     from filmoptic.params import is_free
 
     n_free = 1 + max((c for c in columns if c is not None), default=-1)
@@ -386,15 +465,17 @@ def _thickness_table(specs, columns, thickness_nm):
 
     table = []
     inner = iter(columns)
+    used = iter(consumed or ())
     for i, spec in enumerate(specs):
         if i == 0 or spec is None:
             table.append(None)
             continue
         column = next(inner, None)
+        taken = next(used, 0.0)
         if is_free(spec):
             if column is None:
                 raise FilmopticError("the stack has an unknown thickness; give it a number first")
-            table.append(values[:, column])
+            table.append(np.maximum(values[:, column] - taken, 0.0) if taken else values[:, column])
         else:
             table.append(np.array([float(spec)]))
     return batch_shape, table
@@ -511,13 +592,15 @@ def _reciprocal(z: np.ndarray) -> np.ndarray:
     return out
 
 
-def _solve(indices, table, incoherent, wl, angles_deg, pol):
-    """R and T, shape (B, A, W), for media ``indices`` (first and last semi-infinite)."""
+def _solve(indices, table, incoherent, wl, angles_deg, pol, absorber=None):
+    """R, T and the absorptance inside medium ``absorber`` (a thick slab; None: not wanted),
+    shape (B, A, W), for media ``indices`` (first and last semi-infinite)."""
     B = max((len(d) for d in table if d is not None), default=1)
     A = angles_deg.size
     W = wl.size
     R = np.empty((B, A, W))
     T = np.empty((B, A, W))
+    A_slab = None if absorber is None else np.empty((B, A, W))
     pols = ("s", "p") if pol == "unpolarized" else (pol,)
 
     ends = (0, len(indices) - 1)
@@ -550,10 +633,12 @@ def _solve(indices, table, incoherent, wl, angles_deg, pol):
                     bsl = slice(b0, min(B, b0 + b_chunk))
                     thick = [None if d is None else (d[bsl] if d.size > 1 else d)[:, None, None]
                              for d in table]
-                    Rc, Tc = _solve_chunk(pols, packets, optics, thick, workspace)
+                    Rc, Tc, Ac = _solve_chunk(pols, packets, optics, thick, workspace, absorber)
                     R[bsl, asl, wsl] = Rc
                     T[bsl, asl, wsl] = Tc
-    return R, T
+                    if A_slab is not None:
+                        A_slab[bsl, asl, wsl] = Ac
+    return R, T, A_slab
 
 
 _LOCAL = threading.local()
@@ -661,8 +746,9 @@ class _Optics:
         return np.exp(self.media[i].i2kz_real * d)        # Re(2i·kz) = −2·Im(kz) <= 0
 
 
-def _solve_chunk(pols, packets, optics, thick, workspace):
-    """Intensity R and T (averaged over ``pols``) for one chunk."""
+def _solve_chunk(pols, packets, optics, thick, workspace, absorber=None):
+    """Intensity R, T (averaged over ``pols``) for one chunk, and the light absorbed inside the
+    incoherent medium ``absorber`` (a substrate slab), or None."""
     need_back = len(packets) > 1
     per_packet = [
         _packet_intensities(pols, a, b, optics, thick, need_back and k < len(packets) - 1,
@@ -677,8 +763,8 @@ def _solve_chunk(pols, packets, optics, thick, workspace):
             T_sum += Tp
             R_sum *= 0.5
             T_sum *= 0.5
-        return R_sum, T_sum
-    R_sum = T_sum = 0.0
+        return R_sum, T_sum, None
+    R_sum = T_sum = A_sum = 0.0
     for p in range(len(pols)):
         # Combine packets and slabs from the back (intensity recursion; Byrnes 2016 §6,
         # Katsidis & Siapkas 2002): never divides by a vanishing single-pass transmittance.
@@ -688,15 +774,42 @@ def _solve_chunk(pols, packets, optics, thick, workspace):
             Rf, Tf, Rb, Tb = per_packet[k][p]
             slab = packets[k][1]
             P = optics.slab_pass(slab, thick[slab])
+            if slab == absorber:
+                A_sum = A_sum + _slab_absorptance(per_packet, packets, k, p, P, R_tot, optics, thick)
             X = P * P * R_tot
             inv = 1.0 / (1.0 - Rb * X)
             T_tot = Tf * P * T_tot * inv
             R_tot = Rf + Tf * Tb * X * inv
         R_sum = R_sum + R_tot
         T_sum = T_sum + T_tot
+    if absorber is None:
+        A_sum = None
     if len(pols) == 1:
-        return R_sum, T_sum
-    return 0.5 * R_sum, 0.5 * T_sum
+        return R_sum, T_sum, A_sum
+    return 0.5 * R_sum, 0.5 * T_sum, (None if A_sum is None else 0.5 * A_sum)
+
+
+def _slab_absorptance(per_packet, packets, k, p, P, R_back, optics, thick):
+    """Light absorbed inside the slab behind packet ``k`` (one polarisation).
+
+    Everything in front of the slab is combined from the front into its transmittance into the
+    slab, T_F, and its reflectance seen from inside the slab, R_F; ``R_back`` is the reflectance
+    of everything behind the slab seen from inside it, and ``P`` the slab's single-pass
+    transmittance. The forward intensity at the slab's front face sums the multiple reflections,
+    I = T_F / (1 − R_F·P²·R_back); each forward pass absorbs I·(1 − P) and each backward pass
+    I·P·R_back·(1 − P) (intensity bookkeeping of Katsidis & Siapkas 2002; Byrnes 2016 §6).
+    """
+    _, T_F, R_F, _ = per_packet[0][p]
+    for m in range(1, k + 1):
+        # Front part so far, a slab, then packet m: the same intensity combination, from the front.
+        _, Tf2, Rb2, Tb2 = per_packet[m][p]
+        Rf2 = per_packet[m][p][0]
+        Q = optics.slab_pass(packets[m][0], thick[packets[m][0]])
+        inv = 1.0 / (1.0 - R_F * Q * Q * Rf2)
+        R_F = Rb2 + Tb2 * Tf2 * Q * Q * R_F * inv
+        T_F = T_F * Q * Tf2 * inv
+    forward = T_F / (1.0 - R_F * P * P * R_back)
+    return forward * (1.0 - P) * (1.0 + P * R_back)
 
 
 #: Layers multiplied into a running product before it is rescaled.

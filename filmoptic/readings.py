@@ -254,12 +254,12 @@ def covered_range_nm(stack, extrapolate=False) -> tuple[float, float]:
 
     Examples
     --------
-    Here the glass table (Rubin 1985) sets the short end and the air table (Ciddor 1996) the
-    long end; constant indices set none.
+    Here the glass table (Vogt et al. 2016, clear float) sets both ends; air (Ciddor 1996) serves
+    every wavelength and constant indices set none.
 
     >>> from filmoptic.stack import parse_stack
     >>> covered_range_nm(parse_stack("Ti ? / glass 4mm"))
-    (310.0, 1690.0)
+    (300.0, 1690.0)
     >>> covered_range_nm(parse_stack("n=2 ? / n=1.5", ambient="n=1"))
     (0.0, inf)
     """

@@ -485,11 +485,13 @@ def lab_from_hex(text, illuminant="D65") -> tuple:
 class Companions:
     """What a buyer of a semi-mirror asks besides the target (ISO 9050 luminous values, D65).
 
-    ``luminous_R_reverse`` and ``reflected_reverse_ab`` are None for a half-space substrate;
-    ``luminous_T`` and ``transmitted_ab`` are None when no light comes out behind the part (an
-    absorbing half-space such as a metal or silicon, see
-    :func:`filmoptic.colorimetry.transmission_exits`), and ``absorptance`` is then everything not
-    reflected. Tints are CIELAB (a*, b*) under D65.
+    ``luminous_R_reverse`` and ``reflected_reverse_ab`` are None for a half-space substrate.
+    When no light comes out behind the part (an absorbing half-space such as a metal or silicon,
+    see :func:`filmoptic.colorimetry.transmission_exits`), ``luminous_T`` is 0,
+    ``transmitted_ab`` is None and everything not reflected is absorbed. ``absorptance`` is
+    ``absorptance_layers + absorptance_substrate``: in the coating, and in the substrate (inside
+    a glass plate, or all that enters an absorbing half-space). Tints are CIELAB (a*, b*) under
+    D65.
     """
 
     luminous_T: float | None
@@ -499,6 +501,8 @@ class Companions:
     reflected_ab: tuple
     reflected_reverse_ab: tuple | None
     transmitted_ab: tuple | None
+    absorptance_layers: float = 0.0
+    absorptance_substrate: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -736,7 +740,7 @@ def _slopes(prepared, x, lo, hi):
 
 
 def _companions(stack, x, angle_deg, extrapolate):
-    from .colorimetry import luminous, transmission_exits
+    from .colorimetry import luminous
 
     if x.size == 0:
         return []
@@ -747,21 +751,25 @@ def _companions(stack, x, angle_deg, extrapolate):
     Tv = np.atleast_1d(luminous(wl, front.T))
     Rv = np.atleast_1d(luminous(wl, front.R))
     Av = np.atleast_1d(luminous(wl, front.A))
+    A_layers = np.atleast_1d(luminous(wl, front.A_layers))
+    A_substrate = np.atleast_1d(luminous(wl, front.A_substrate))
     Rb = np.atleast_1d(luminous(wl, back.R)) if has_back else None
     lab_r = _lab(wl, front.R)
-    lab_t = _lab(wl, front.T)
+    exits = front.transmission != "opaque"
+    lab_t = _lab(wl, front.T) if exits else None
     lab_b = _lab(wl, back.R) if has_back else None
-    exits = transmission_exits(stack, wl, extrapolate=extrapolate)
     out = []
     for i in range(x.size):
         out.append(Companions(
-            luminous_T=float(Tv[i]) if exits else None,
+            luminous_T=float(Tv[i]),
             luminous_R=float(Rv[i]),
             luminous_R_reverse=None if Rb is None else float(Rb[i]),
-            absorptance=float(Av[i]) if exits else 1.0 - float(Rv[i]),
+            absorptance=float(Av[i]),
             reflected_ab=(float(lab_r[i, 1]), float(lab_r[i, 2])),
             reflected_reverse_ab=None if lab_b is None else (float(lab_b[i, 1]), float(lab_b[i, 2])),
             transmitted_ab=(float(lab_t[i, 1]), float(lab_t[i, 2])) if exits else None,
+            absorptance_layers=float(A_layers[i]),
+            absorptance_substrate=float(A_substrate[i]),
         ))
     return out
 

@@ -14,6 +14,19 @@ last item is the substrate: without a thickness a half-space (only its front sur
 with one in mm a thick slab with the ambient behind it. ``[ … ]xN`` repeats a group (nested
 groups allowed); an unknown inside a group is one unknown shared by every repetition, as the
 same recipe is run each time. Materials are read by :func:`filmoptic.materials.parse_material`.
+
+A metal layer may carry the oxide that air grows on it: ``METAL THICKNESS + OXIDE_THICKNESS
+oxide`` (or ``+ OXIDE_THICKNESS MATERIAL`` to name the oxide's constants)::
+
+    Al 10nm + 2nm oxide / glass 4mm      →   Al2O3 2nm / Al 8.45nm / glass 4mm
+    Ti ? + 3nm oxide / glass 4mm         →   TiO2 3nm / Ti (? − 1.69)nm / glass 4mm
+    Cr 12nm + 2nm n=2.2 / glass          →   n=2.2 2nm / Cr 11nm / glass
+
+The oxide lies on top of the metal (on the side the light comes from), and growing it consumes
+metal: the written thickness is the metal deposited, the metal left is that less
+``oxide / ratio``, the Pilling–Bedworth ratio of :data:`filmoptic.materials.films.NATIVE_OXIDES`
+(1.29 for Al → Al2O3). A substrate may carry one too (``Al + 4nm oxide``: the oxide on bulk
+aluminium; nothing is consumed from a half-space or a slab).
 """
 
 from __future__ import annotations
@@ -28,6 +41,11 @@ from filmoptic.params import Free, Parameter, is_free
 from filmoptic.units import LENGTH_UNITS_NM
 
 __all__ = ["Layer", "Stack", "parse_stack", "MAX_REPEAT", "MAX_LAYERS"]
+
+# '+ 2nm oxide', '+ 20Å Al2O3:ALD', '+ 1.5 nm n=1.65' at the end of an item.
+_OXIDE_RE = re.compile(
+    r"^(?P<base>.*?\S)\s+\+\s*(?P<number>\d+(?:\.\d*)?|\.\d+)\s*(?P<unit>nm|Å|A)\s+(?P<what>\S+)\s*$"
+)
 
 #: Largest repeat count of a group (more is a typo, not a coating).
 MAX_REPEAT = 10_000
@@ -61,6 +79,12 @@ class Layer:
     item : int or None
         Which written item this layer was expanded from. Copies made by a repeat group share
         it, and with it their unknowns. None: the layer stands alone.
+    consumed_nm : float
+        Metal used up by the native oxide written on it (``+ 2nm oxide``): the layer's optical
+        thickness is ``thickness_nm − consumed_nm`` (not below 0), ``thickness_nm`` being the
+        metal deposited.
+    note : str
+        For an oxide layer written with ``+ Xnm oxide``: what the notation expanded to.
     """
 
     material: object
@@ -68,10 +92,20 @@ class Layer:
     thick: bool = False
     text: str = ""
     item: int | None = None
+    consumed_nm: float = 0.0
+    note: str = ""
 
     @property
     def label(self) -> str:
         return self.text or f"{self.material} {self.thickness_nm}"
+
+    def effective_nm(self, deposited_nm=None):
+        """The thickness light sees: deposited (``thickness_nm`` or the value given for an
+        unknown) less the metal consumed by its native oxide, not below 0."""
+        value = self.thickness_nm if deposited_nm is None else deposited_nm
+        if value is None or is_free(value):
+            return value
+        return max(float(value) - self.consumed_nm, 0.0)
 
 
 @dataclass(frozen=True)
@@ -214,6 +248,48 @@ class Stack:
         wl = np.asarray(wavelength_nm, dtype=float)
         return is_practically_transparent(self.substrate.material.nk(wl, extrapolate=extrapolate))
 
+    # -- what the notation expanded to -------------------------------------------------------
+    def surface_oxides(self) -> tuple:
+        """One line per native oxide written with ``+ Xnm oxide``: what it expanded to.
+
+        Examples
+        --------
+        >>> parse_stack("Al 10nm + 2nm oxide / glass 4mm").surface_oxides()
+        ('Al 10nm + 2nm oxide → Al2O3 2nm / Al 8.45nm (2 nm of oxide consumes 1.55 nm of Al; Pilling–Bedworth ratio 1.29)',)
+        """
+        return tuple(dict.fromkeys(layer.note for layer in (*self.layers, self.substrate) if layer.note))
+
+    def thin_metal_warning(self, deposited_nm=None) -> str | None:
+        """One plain line when a metal layer is thinner than continuous-film constants allow.
+
+        ``deposited_nm``, for a stack with one unknown thickness, is its value (a solution).
+        See :func:`filmoptic.materials.films.thin_metal_warning`.
+
+        Examples
+        --------
+        >>> parse_stack("Ti 10nm / glass 4mm").thin_metal_warning() is None
+        True
+        >>> parse_stack("Ag 6nm / glass 4mm").thin_metal_warning()[:36]
+        'Ag 6 nm is below about 12 nm, where '
+        """
+        from filmoptic.materials.films import thin_metal_warning
+
+        return thin_metal_warning(self.metal_layers(deposited_nm))
+
+    def metal_layers(self, deposited_nm=None) -> list:
+        """(material, metal thickness left in nm) of every thin metal layer (not thick slabs);
+        an unknown thickness counts only when ``deposited_nm`` gives its value."""
+        judged = []
+        for layer in self.layers:
+            if getattr(layer.material, "kind", "") != "metal" or layer.thick:
+                continue
+            if is_free(layer.thickness_nm):
+                if deposited_nm is not None:
+                    judged.append((layer.material, layer.effective_nm(float(deposited_nm))))
+            else:
+                judged.append((layer.material, layer.effective_nm()))
+        return judged
+
     # -- variants -----------------------------------------------------------------------------
     def bare(self) -> "Stack":
         """The substrate alone (no coating), in the same ambient and exit medium."""
@@ -289,6 +365,9 @@ def parse_stack(text: str, ambient="air") -> Stack:
         if len(layers) > MAX_LAYERS:
             raise StackSyntaxError(f"the stack expands to more than {MAX_LAYERS} layers")
     substrate = parser.substrate(*items[-1])
+    if isinstance(substrate, tuple):          # a substrate with its native oxide on top
+        oxide_layer, substrate = substrate
+        layers.append(oxide_layer)
     return Stack(tuple(layers), substrate, ambient_material, ambient_material, " ".join(text.split()))
 
 
@@ -387,6 +466,9 @@ class _Parser:
     def item(self, label: str, raw: str) -> list:
         """The layers of one item before the substrate (a group expands to its repeats)."""
         text = raw.strip()
+        oxide = _OXIDE_RE.match(_outside_brackets(text))
+        if oxide:
+            return self._with_oxide(label, text, oxide, substrate=False)
         if text.startswith("["):
             inner, count = _group_parts(text, label)
             once = []
@@ -407,8 +489,15 @@ class _Parser:
             raise StackSyntaxError(f"item {label} {text!r}: a thick slab needs a positive thickness")
         return [Layer(material, thickness, thick, text, self._new_item())]
 
-    def substrate(self, label: str, raw: str) -> Layer:
+    def substrate(self, label: str, raw: str):
+        """The substrate Layer, or (oxide layer, substrate Layer) for ``… + Xnm oxide``."""
         text = raw.strip()
+        oxide = _OXIDE_RE.match(_outside_brackets(text))
+        if oxide:
+            return self._with_oxide(label, text, oxide, substrate=True)
+        return self._substrate(label, text)
+
+    def _substrate(self, label: str, text: str) -> Layer:
         material, thickness, thick = self._material_and_thickness(label, text)
         if thickness is None:
             return Layer(material, None, False, text, self._new_item())
@@ -426,6 +515,60 @@ class _Parser:
         if thickness == 0:
             raise StackSyntaxError(f"item {label} {text!r}: a thick substrate needs a positive thickness")
         return Layer(material, thickness, True, text, self._new_item())
+
+    def _with_oxide(self, label: str, text: str, match, substrate: bool):
+        """``METAL D + X oxide``: the oxide layer on top of the metal, the metal consumed by it."""
+        from filmoptic.materials.films import NATIVE_OXIDES
+
+        where = f"item {label} {text!r}"
+        base = text[: match.end("base")].strip()
+        oxide_nm = float(match.group("number")) * (0.1 if match.group("unit") in ("Å", "A") else 1.0)
+        if oxide_nm <= 0:
+            raise StackSyntaxError(f"{where}: the oxide needs a positive thickness, e.g. '+ 2nm oxide'")
+        if oxide_nm > 1000:
+            raise StackSyntaxError(f"{where}: {oxide_nm:g} nm is no native oxide; write the oxide as a layer")
+        if substrate:
+            metal_layer = self._substrate(label, base)
+        else:
+            if base.startswith("["):
+                raise StackSyntaxError(f"{where}: '+ Xnm oxide' belongs to one metal layer, not a group")
+            metal_layer = self.item(label, base)[0]
+        metal = metal_layer.material
+        name = getattr(metal, "name", str(metal))
+        native = NATIVE_OXIDES.get(name)
+        what = text[match.start("what"):].strip()
+        if what.lower() == "oxide":
+            if native is None:
+                known = ", ".join(NATIVE_OXIDES)
+                raise StackSyntaxError(
+                    f"{where}: filmoptic knows the native oxide of {known}, not of {name}; "
+                    "name the oxide's constants, e.g. '+ 2nm n=1.8'"
+                )
+            oxide_text = native.oxide
+        else:
+            oxide_text = what
+        oxide_material = self._material(label, text, oxide_text)
+        consumed = 0.0
+        if not substrate:
+            if native is None:
+                raise StackSyntaxError(
+                    f"{where}: '+ Xnm …' puts the native oxide on a metal of "
+                    f"{', '.join(NATIVE_OXIDES)}, not on {name}; write the two layers instead "
+                    f"('{oxide_text} {oxide_nm:g}nm / {base}')"
+                )
+            consumed = native.consumed_nm(oxide_nm)
+            deposited = metal_layer.thickness_nm
+            if not is_free(deposited) and deposited < consumed:
+                raise StackSyntaxError(
+                    f"{where}: {oxide_nm:g} nm of {native.oxide} consumes {consumed:.3g} nm of {name}, "
+                    f"more than the {deposited:g} nm deposited"
+                )
+        oxide_layer = Layer(oxide_material, oxide_nm, False, f"{oxide_text} {oxide_nm:g}nm", self._new_item())
+        metal_layer = replace(metal_layer, consumed_nm=consumed)
+        oxide_layer = replace(oxide_layer, note=_oxide_note(text, oxide_layer, metal_layer, native))
+        if substrate:
+            return oxide_layer, metal_layer
+        return [oxide_layer, metal_layer]
 
     def _new_item(self) -> int:
         self._next_item += 1
@@ -471,6 +614,20 @@ class _Parser:
             )
         thickness, thick = _read_thickness(label, item, thickness_text)
         return self._material(label, item, material_text), thickness, thick
+
+
+def _oxide_note(text, oxide_layer, metal_layer, native) -> str:
+    """'Al 10nm + 2nm oxide → Al2O3 2nm / Al 8.45nm (… consumes 1.55 nm of Al; ratio 1.29)'."""
+    name = getattr(metal_layer.material, "name", str(metal_layer.material))
+    oxide_nm = oxide_layer.thickness_nm
+    if metal_layer.consumed_nm == 0:
+        return f"{text} → {oxide_layer.text} / {metal_layer.text} (oxide on the substrate's surface)"
+    consumed = metal_layer.consumed_nm
+    deposited = metal_layer.thickness_nm
+    left = (f"(deposited − {consumed:.3g})nm" if is_free(deposited)
+            else f"{deposited - consumed:.3g}nm")
+    return (f"{text} → {oxide_layer.text} / {name} {left} ({oxide_nm:g} nm of oxide consumes "
+            f"{consumed:.3g} nm of {name}; Pilling–Bedworth ratio {native.ratio:.3g})")
 
 
 # Units people write that the notation does not take, with their size in mm or nm.

@@ -3,7 +3,7 @@ that would clobber inputs, files the system refuses.
 
 Every user mistake must end with one clear line on stderr and exit code 2 (never a traceback or
 an "internal error"), and nothing the user owns may be overwritten unless they named it as an
-output. These are facts of the tool's contract (README.md, CONVENTIONS.md), not of physics; the
+output. These are facts of the tool's contract (README.md and DEVELOPERS.md here), not of physics; the
 few physical facts used are marked "common practice".
 """
 
@@ -181,12 +181,25 @@ def test_unreadable_nk_files_are_explained(run_cli, in_tmp, content, fragment):
     assert_user_error(run_cli(["spectrum", "file:bad.txt 10nm / glass"]), fragment)
 
 
-def test_air_outside_its_table_suggests_a_constant_ambient(run_cli):
-    # The default ambient, air (Ciddor 1996), is tabulated to 1690 nm; Ge to well beyond.
-    result = run_cli(["spectrum", "Ge 100nm / glass", "--wl", "2000"])
-    assert_user_error(result, "air", "--ambient n=1.000")
+def test_air_serves_every_wavelength_the_layers_cover(run_cli):
+    # Ciddor 1996 is tabulated to 1690 nm; beyond, its formula tends to n − 1 = 2.73e-4, so an
+    # infrared mirror needs no --ambient. Silver measured to 20 µm (Ciesielski 2017) on sapphire
+    # (Malitson 1972, to 5 µm), 400–2500 nm, with the default ambient:
+    result = run_cli(["spectrum", "Ag:Ciesielski-2017-Ge 150nm / sapphire 1mm", "--wl", "400:2500:100",
+                      "--json"])
+    assert result.exit_code == 0, result.stderr
+    assert "warning" not in result.stderr               # nothing worth a warning
+    data = json.loads(result.stdout)
+    assert len(data["R"]) == 22 and min(data["R"][3:]) > 0.9   # an opaque silver mirror
+
+
+def test_a_liquid_ambient_outside_its_table_suggests_a_constant(run_cli):
+    # Water by Daimon & Masumura 2007 is given to 1129 nm; a liquid barely disperses, so the
+    # message offers its index at the table's end as a constant.
+    result = run_cli(["spectrum", "MgF2 100nm / fused-silica", "--wl", "1500", "--ambient", "water:Daimon-2007"])
+    assert_user_error(result, "water", "--ambient n=1.3")
     suggestion = result.stderr.split("--ambient ")[1].split(")")[0]
-    fixed = run_cli(["spectrum", "Ge 100nm / glass", "--wl", "2000", "--ambient", suggestion])
+    fixed = run_cli(["spectrum", "MgF2 100nm / fused-silica", "--wl", "1500", "--ambient", suggestion])
     assert fixed.exit_code == 0, fixed.stderr
 
 
@@ -199,17 +212,25 @@ def test_a_range_error_on_a_large_grid_names_the_far_end(run_cli):
 
 # -- light that cannot get out, or in ----------------------------------------------------------
 
-def test_absorbing_half_space_says_where_the_transmitted_light_goes(run_cli):
+def test_absorbing_half_space_passes_nothing_and_absorbs_what_enters(run_cli):
+    # Light entering titanium never comes out (Beer–Lambert over an unbounded path): T = 0 and
+    # the light not reflected, 1 − R, is absorbed in the substrate (R + T + A = 1).
     result = run_cli(["spectrum", "Ti", "--wl", "550", "--json"])
     assert result.exit_code == 0, result.stderr
-    json.loads(result.stdout)
-    assert "absorbed there" in result.stderr
+    data = json.loads(result.stdout)
+    assert data["T"] == [0.0] and data["transmission"] == "opaque"
+    assert data["A_substrate"][0] == pytest.approx(1 - data["R"][0], abs=1e-12)
+    table = run_cli(["spectrum", "Ti", "--wl", "550"])
+    assert table.stdout.count("absorbing half-space") == 1   # said once, under the table
 
 
-def test_transparent_half_space_gets_no_such_note(run_cli):
+def test_transparent_half_space_says_once_what_T_is(run_cli):
     result = run_cli(["spectrum", "MgF2 100nm / glass", "--wl", "550"])
     assert result.exit_code == 0
-    assert "absorbed there" not in result.stderr
+    assert result.stdout.count("enters the half-space substrate") == 1
+    assert "absorbing half-space" not in result.stdout
+    slab = run_cli(["spectrum", "MgF2 100nm / glass 4mm", "--wl", "550"])
+    assert "note:" not in slab.stdout   # through a slab, T is plainly what comes out
 
 
 def test_reverse_through_an_absorbing_half_space_is_refused(run_cli):
@@ -218,11 +239,19 @@ def test_reverse_through_an_absorbing_half_space_is_refused(run_cli):
     assert_user_error(run_cli(["spectrum", "Ti 12nm / Si", "--reverse", "--wl", "550"]), "half-space")
 
 
-def test_colour_against_angle_explains_t_on_an_opaque_substrate(run_cli):
-    result = run_cli(["color", "TiO2 60nm / Ti", "--angles", "0:60:30"])
+def test_colour_of_an_opaque_part_has_no_transmitted_colour(run_cli):
+    # Nothing comes through a titanium half-space, so nothing can be seen in transmission: no
+    # transmitted colour at any angle, luminous T 0 and all unreflected light in the substrate.
+    result = run_cli(["color", "TiO2 60nm / Ti", "--angles", "0:60:30", "--json"])
     assert result.exit_code == 0, result.stderr
-    angle_table = result.stdout.split("Colour versus viewing angle")[1]
-    assert "absorbs it" in angle_table
+    data = json.loads(result.stdout)
+    assert data["transmitted"] is None and data["transmission"] == "opaque"
+    assert all(entry["transmitted"] is None for entry in data["angles"])
+    lum = data["luminous"]
+    assert lum["T"] == 0.0
+    assert lum["A_layers"] + lum["A_substrate"] == pytest.approx(1 - lum["R"], abs=1e-12)
+    table = run_cli(["color", "TiO2 60nm / Ti", "--angles", "0:60:30"]).stdout
+    assert "transmitted" not in table and "T L*" not in table
 
 
 # -- fit -----------------------------------------------------------------------------------------
@@ -246,6 +275,14 @@ def test_fit_takes_pol_like_spectrum_and_spectrum_takes_polarization_like_fit(ru
     fitted = run_cli(["fit", "n=1.3..1.6 10..200nm / glass 1mm", "--measured", "T.csv", "--pol", "S",
                       "--max-grid", "200", "--starts", "1", "--json"])
     assert fitted.exit_code == 0, fitted.stderr
+    # '--pol S' reached the fit as s-polarised light: the command gives the API's answer.
+    from filmoptic.fit import fit_spectra
+    from filmoptic.measured import read_spectrum
+
+    api = fit_spectra("n=1.3..1.6 10..200nm / glass 1mm", [read_spectrum("T.csv")], polarization="s",
+                      max_grid=200, starts=1)
+    values = [p["value"] for p in json.loads(fitted.stdout)["parameters"]]
+    assert values == [p.value for p in api.parameters]
     spectrum = run_cli(["spectrum", STACK, "--wl", "550", "--polarization", "s", "--json"])
     assert json.loads(spectrum.stdout)["polarization"] == "s"
     assert os.path.exists("T.csv")

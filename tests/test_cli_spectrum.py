@@ -17,10 +17,12 @@ def test_table_shows_percent_and_the_stack(run_cli):
     assert result.exit_code == 0, result.stderr
     lines = result.stdout.splitlines()
     assert "n=1.52" in lines[0] and "unpolarized" in lines[0]
-    assert lines[1].split() == ["wavelength_nm", "R", "%", "T", "%", "A", "%"]
+    assert lines[1].split() == ["wavelength_nm", "R", "%", "T", "%", "A", "%", "A", "layers", "%",
+                                "A", "substrate", "%"]
     # Bare glass n = 1.52: 4.26 % reflected (Hecht, Optics), 95.74 % into the glass.
-    assert lines[3].split() == ["500", "4.26", "95.74", "0.00"]
-    assert lines[4].split() == ["600", "4.26", "95.74", "0.00"]
+    assert lines[3].split() == ["500", "4.26", "95.74", "0.00", "0.00", "0.00"]
+    assert lines[4].split() == ["600", "4.26", "95.74", "0.00", "0.00", "0.00"]
+    assert lines[5].startswith("note: T is the light that enters the half-space substrate")
 
 
 def test_json_has_fractions_and_nothing_else(run_cli):
@@ -32,7 +34,14 @@ def test_json_has_fractions_and_nothing_else(run_cli):
     np.testing.assert_allclose(data["R"], expected.R, rtol=1e-12)
     np.testing.assert_allclose(data["T"], expected.T, rtol=1e-12)
     np.testing.assert_allclose(data["A"], expected.A, rtol=1e-12, atol=1e-15)
+    np.testing.assert_allclose(data["A_layers"], expected.A_layers, rtol=1e-12, atol=1e-15)
+    np.testing.assert_allclose(data["A_substrate"], expected.A_substrate, rtol=1e-12, atol=1e-15)
+    np.testing.assert_allclose(np.add(data["A_layers"], data["A_substrate"]), data["A"], atol=1e-15)
     assert data["polarization"] == "unpolarized" and data["reverse"] is False
+    assert data["transmission"] == "exits"
+    # 3 mm of clear float absorbs a little of what the titanium passes (its iron: Vogt et al.,
+    # IEEE J. Photovolt. 6, 111 (2016), 703 ppm Fe2O3; the absorption rises towards 1000 nm).
+    assert all(0.004 < v < 0.02 for v in data["A_substrate"])
     assert all(0 <= v <= 1 for v in data["R"] + data["T"] + data["A"])
 
 
@@ -70,10 +79,11 @@ def test_csv_is_written_whole_with_a_header(run_cli, tmp_path):
     result = run_cli(["spectrum", "TiO2 60nm / glass", "--wl", "400:420:10", "--csv", out])
     assert result.exit_code == 0, result.stderr
     lines = out.read_text(encoding="utf-8").splitlines()
-    assert lines[0] == "wavelength_nm,R,T,A"
+    assert lines[0] == "wavelength_nm,R,T,A,A_layers,A_substrate"
     rows = np.array([[float(x) for x in line.split(",")] for line in lines[1:]])
-    assert rows.shape == (3, 4)
-    np.testing.assert_allclose(rows[:, 1:].sum(axis=1), 1.0, atol=1e-10)
+    assert rows.shape == (3, 6)
+    np.testing.assert_allclose(rows[:, 1:4].sum(axis=1), 1.0, atol=1e-10)
+    np.testing.assert_allclose(rows[:, 4] + rows[:, 5], rows[:, 3], atol=1e-10)
     assert [p.name for p in tmp_path.iterdir()] == ["spectrum.csv"]   # no temporary left behind
 
 

@@ -17,23 +17,31 @@ def test_json_has_exactly_the_documented_keys(run_cli):
     result = run_cli(["color", "Ti 12nm / glass 4mm", "--json"])
     assert result.exit_code == 0, result.stderr
     data = json.loads(result.stdout)
-    assert set(data) == {"reflected", "reflected_reverse", "transmitted", "luminous"}
+    assert set(data) == {"reflected", "reflected_reverse", "transmitted", "luminous", "transmission",
+                         "surface_oxides"}
     for key in ("reflected", "reflected_reverse", "transmitted"):
         assert set(data[key]) == COLOUR_KEYS
         assert len(data[key]["XYZ"]) == 3 and len(data[key]["xy"]) == 2
         assert data[key]["hex"].startswith("#") and len(data[key]["hex"]) == 7
-    assert set(data["luminous"]) == {"T", "R", "R_reverse"}
-    assert all(0 <= data["luminous"][k] <= 1 for k in ("T", "R", "R_reverse"))
+    lum = data["luminous"]
+    assert set(lum) == {"T", "R", "R_reverse", "A_layers", "A_substrate"}
+    assert all(0 <= lum[k] <= 1 for k in lum)
+    # Luminous weighting is linear, so R + T + A = 1 carries over (ISO 9050 weights sum to 1).
+    assert lum["T"] + lum["R"] + lum["A_layers"] + lum["A_substrate"] == pytest.approx(1.0, abs=1e-12)
+    assert data["transmission"] == "exits"
 
 
 def test_json_agrees_with_the_api(run_cli):
     result = run_cli(["color", "TiO2 60nm / Ti", "--illuminant", "A", "--observer", "10", "--angle", "20", "--json"])
     data = json.loads(result.stdout)
     api = cm.appearance("TiO2 60nm / Ti", illuminant="A", observer=10, angle_deg=20)
-    assert data["reflected"]["Lab"] == pytest.approx(api.reflected.Lab.tolist())
+    # JSON carries floats exactly (shortest round-trip repr), so the two must be identical.
+    assert data["reflected"]["Lab"] == api.reflected.Lab.tolist()
     assert data["reflected"]["hex"] == api.reflected.hex
-    assert data["transmitted"]["XYZ"] == pytest.approx(api.transmitted.XYZ.tolist())
-    assert data["luminous"]["R"] == pytest.approx(api.luminous.R)
+    assert data["luminous"]["R"] == api.luminous.R
+    assert data["luminous"]["A_substrate"] == api.luminous.A_substrate
+    # Nothing comes through titanium: no transmitted colour, and T is 0.
+    assert data["transmitted"] is None and api.transmitted is None and data["luminous"]["T"] == 0.0
     # A half-space substrate has no back side to look at.
     assert data["reflected_reverse"] is None and data["luminous"]["R_reverse"] is None
 
@@ -41,7 +49,8 @@ def test_json_agrees_with_the_api(run_cli):
 def test_angles_add_a_list_and_a_table(run_cli):
     result = run_cli(["color", "Ti 12nm / glass 4mm", "--angles", "0:60:15", "--json"])
     data = json.loads(result.stdout)
-    assert set(data) == {"reflected", "reflected_reverse", "transmitted", "luminous", "angles"}
+    assert set(data) == {"reflected", "reflected_reverse", "transmitted", "luminous", "transmission",
+                         "surface_oxides", "angles"}
     assert [entry["angle_deg"] for entry in data["angles"]] == [0, 15, 30, 45, 60]
     # The 0° entry is the main result (default --angle 0).
     assert data["angles"][0]["reflected"]["Lab"] == pytest.approx(data["reflected"]["Lab"])
@@ -70,9 +79,12 @@ def test_out_of_gamut_is_flagged(run_cli):
     assert f"{api.reflected.hex} *" in table and "outside the sRGB gamut" in table
 
 
-def test_opaque_substrate_says_where_transmitted_light_goes(run_cli):
+def test_opaque_substrate_says_where_the_light_goes(run_cli):
     out = run_cli(["color", "TiO2 60nm / Ti"]).stdout
-    assert "into the substrate" in out
+    assert "transmitted" not in out
+    assert out.count("no light comes through") == 1
+    api = cm.appearance("TiO2 60nm / Ti")
+    assert f"absorbed in the substrate   {100 * api.luminous.A_substrate:.2f}" in out
 
 
 @pytest.mark.parametrize("suffix, magic", [(".png", b"\x89PNG"), (".svg", b"<?xml"), (".pdf", b"%PDF")])

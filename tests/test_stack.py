@@ -1,4 +1,4 @@
-"""Stack notation (CONVENTIONS.md) and the Stack/Layer model (DEVELOPERS.md contract)."""
+"""Stack notation (README.md) and the Stack/Layer model (DEVELOPERS.md contract)."""
 
 from __future__ import annotations
 

@@ -11,7 +11,8 @@ from conftest import assert_user_error
 from filmoptic import colorimetry as cm
 
 SWEEP_KEYS = {
-    "thickness_nm", "luminous_T", "luminous_R", "reflected_Lab", "reflected_hex", "reflected_in_gamut",
+    "thickness_nm", "luminous_T", "luminous_R", "luminous_A_layers", "luminous_A_substrate",
+    "reflected_Lab", "reflected_hex", "reflected_in_gamut",
     "transmitted_Lab", "transmitted_hex", "transmitted_in_gamut",
 }
 
@@ -20,14 +21,21 @@ def test_json_lists(run_cli):
     result = run_cli(["sweep", "TiO2 ? / glass 2mm", "--range", "0:200:5", "--json"])
     assert result.exit_code == 0, result.stderr
     data = json.loads(result.stdout)
-    assert set(data) == SWEEP_KEYS
+    assert set(data) == SWEEP_KEYS | {"transmission"}
+    assert data["transmission"] == "exits"
     assert data["thickness_nm"] == [float(d) for d in range(0, 201, 5)]
     assert all(len(data[k]) == 41 for k in SWEEP_KEYS)
     assert all(len(lab) == 3 for lab in data["reflected_Lab"])
     api = cm.colour_sweep("TiO2 ? / glass 2mm", np.arange(0.0, 201.0, 5.0))
-    np.testing.assert_allclose(data["reflected_Lab"], api.reflected.Lab, atol=1e-9)
+    # JSON carries floats exactly (shortest round-trip repr): the command equals the API.
+    assert data["reflected_Lab"] == api.reflected.Lab.tolist()
     assert data["transmitted_hex"] == api.transmitted.hex.tolist()
-    assert data["luminous_T"] == pytest.approx(api.luminous_T.tolist())
+    assert data["luminous_T"] == api.luminous_T.tolist()
+    assert data["luminous_A_substrate"] == api.luminous_A_substrate.tolist()
+    # R + T + A_layers + A_substrate = 1 survives the (linear) luminous weighting.
+    total = np.sum([data[k] for k in ("luminous_T", "luminous_R", "luminous_A_layers",
+                                      "luminous_A_substrate")], axis=0)
+    np.testing.assert_allclose(total, 1.0, atol=1e-12)
 
 
 def test_first_entry_is_the_bare_substrate(run_cli):
@@ -63,8 +71,15 @@ def test_table_in_percent(run_cli):
     assert "T lum %" in result.stdout
 
 
-def test_opaque_substrate_note(run_cli):
-    assert "absorbs" in run_cli(["sweep", "TiO2 ? / Ti", "--range", "0:20:10"]).stdout
+def test_opaque_substrate_has_no_transmitted_colour(run_cli):
+    out = run_cli(["sweep", "TiO2 ? / Ti", "--range", "0:20:10"]).stdout
+    assert out.count("no light comes through") == 1 and "T L*" not in out
+    data = json.loads(run_cli(["sweep", "TiO2 ? / Ti", "--range", "0:20:10", "--json"]).stdout)
+    assert data["transmitted_hex"] is None and data["luminous_T"] == [0.0, 0.0, 0.0]
+    # R + T + A = 1 with T = 0: all unreflected light is absorbed, nearly all in the titanium.
+    total = np.sum([data["luminous_R"], data["luminous_A_layers"], data["luminous_A_substrate"]], axis=0)
+    np.testing.assert_allclose(total, 1.0, atol=1e-12)
+    assert max(data["luminous_A_layers"]) < 1e-5 < min(data["luminous_A_substrate"])
 
 
 @pytest.mark.parametrize("suffix, magic", [(".png", b"\x89PNG"), (".pdf", b"%PDF"), (".svg", b"<?xml")])

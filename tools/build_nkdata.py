@@ -55,6 +55,8 @@ class Source:
     sample: str
     default: bool = False
     aliases: tuple = field(default=())
+    form: str = ""      # "thin film, N nm" | "film" | "bulk" | "model fit"; "" = read from `sample`
+                        # by filmoptic.materials.sample_form when the library loads
 
 
 M, D, S, SUB, AMB = "metal", "dielectric", "semiconductor", "substrate", "ambient"
@@ -153,10 +155,13 @@ SOURCES = [
     Source("Ge", "Aspnes-1983", "main/Ge/Aspnes", S, "crystalline Ge, room temperature; ellipsometry"),
     Source("Ge", "Amotchkina-2020", "main/Ge/Amotchkina-film", S, "e-beam evaporated film, 0.42 µm, deposited at 120 °C", False, ("film", "Amotchkina-film")),
     # --- substrates
-    Source("glass", "Rubin-1985-clear", "glass/misc/soda-lime/Rubin-clear", SUB, "clear soda-lime float (window) glass (dispersion formula)", True, ("Rubin-clear", "clear")),
-    Source("glass", "Rubin-1985-lowiron", "glass/misc/soda-lime/Rubin-lowiron", SUB, "low-iron soda-lime float glass (dispersion formula)", False, ("Rubin-lowiron", "low-iron")),
-    Source("glass", "Vogt-2016-703ppm", "glass/misc/soda-lime/Vogt-703ppm", SUB, "soda-lime glass with 703 ppm Fe2O3; with its absorption", False, ("Vogt-703ppm", "iron")),
-    Source("glass", "Vogt-2016-10ppm", "glass/misc/soda-lime/Vogt-10ppm", SUB, "soda-lime glass with 10 ppm Fe2O3; with its absorption", False, ("Vogt-10ppm",)),
+    # Clear float carries several hundred ppm of Fe2O3 (common practice), whose absorption costs a
+    # 4 mm pane a few percent of luminous transmittance; the default is a measured clear glass
+    # with that absorption. Rubin's entry gives the refractive index only (no k), so it stays as
+    # an index-only alternative; his low-iron entry was the same formula and is not shipped.
+    Source("glass", "Vogt-2016-703ppm", "glass/misc/soda-lime/Vogt-703ppm", SUB, "clear soda-lime glass with 703 ppm Fe2O3, with its measured absorption", True, ("Vogt-703ppm", "clear", "iron")),
+    Source("glass", "Vogt-2016-10ppm", "glass/misc/soda-lime/Vogt-10ppm", SUB, "low-iron (extra-clear) soda-lime glass with 10 ppm Fe2O3, with its measured absorption", False, ("Vogt-10ppm", "low-iron", "extra-clear")),
+    Source("glass", "Rubin-1985-clear", "glass/misc/soda-lime/Rubin-clear", SUB, "clear soda-lime float (window) glass: refractive index only (dispersion formula; no absorption, k = 0)", False, ("Rubin-clear", "Rubin-1985", "index-only")),
     Source("fused-silica", "Malitson-1965", "main/SiO2/Malitson", SUB, "bulk fused silica, 20 °C (dispersion formula)", True),
     Source("sapphire", "Malitson-1972-o", "main/Al2O3/Malitson-o", SUB, "synthetic sapphire, ordinary ray, 20 °C (dispersion formula)", True, ("Malitson-o",)),
     Source("PMMA", "Zhang-2020", f"{PMMA}/Zhang-Tomson", SUB, "commercial PMMA sheet, room temperature", True, ("Zhang-Tomson",)),
@@ -168,6 +173,16 @@ SOURCES = [
     Source("air", "Ciddor-1996", "other/mixed gases/air/Ciddor", AMB, "standard dry air, 15 °C, 101.325 kPa, 450 ppm CO2 (dispersion formula)", True),
     Source("water", "Hale-1973", "main/H2O/Hale", AMB, "liquid water, 25 °C", True),
     Source("water", "Daimon-2007", "main/H2O/Daimon-21.5C", AMB, "distilled water, 21.5 °C (dispersion formula)", False, ("Daimon-21.5C",)),
+]
+
+# --- thin-film datasets: constants measured on films near the thicknesses semi-mirrors use
+# (metals below ~20 nm differ from thick-film data: islands, surface scattering, oxide).
+SOURCES += [
+    Source("Ag", "Ciesielski-2017", "main/Ag/Ciesielski", M, "e-beam evaporated film, 20 nm, directly on SiO2 (self-assembled islands)", False, (), "thin film, 20 nm"),
+    Source("Ag", "Ciesielski-2017-Ge", "main/Ag/Ciesielski-Ge", M, "e-beam evaporated film, 20 nm, on SiO2 over a 2 nm Ge wetting layer (continuous)", False, (), "thin film, 20 nm"),
+    Source("Ag", "Ciesielski-2017-Ni", "main/Ag/Ciesielski-Ni", M, "e-beam evaporated film, 20 nm, on SiO2 over a 2 nm Ni wetting layer", False, (), "thin film, 20 nm"),
+    Source("Ag", "Jiang-2016", "main/Ag/Jiang", M, "evaporated films on silicon nitride and glass, overlayer-protected, fresh and annealed", False, (), "film"),
+    Source("Ti", "Palm-2018", "main/Ti/Palm", M, "e-beam evaporated film, 200 nm, vacuum annealed 2 h at 350 °C", False, (), "film"),
 ]
 
 # Plain-words statement of each published formula type used by the data set (λ in µm).
@@ -315,6 +330,8 @@ def header_for(src: Source, mat, formula) -> dict:
     if short:
         header["citation"] = short
     header["sample"] = src.sample
+    if src.form:
+        header["form"] = src.form
     header["comments"] = clean_text(mat.comments) or "-"
     header["range_nm"] = f"{wl_range[0]:.6g} {wl_range[1]:.6g}"
     header["licence"] = LICENCE

@@ -34,6 +34,9 @@ __all__ = [
     "echo_caution",
     "WavelengthsType",
     "FractionType",
+    "transmission_note",
+    "echo_surface_oxides",
+    "warn_thin_metal",
 ]
 
 
@@ -253,3 +256,29 @@ def progress(length: int, label: str):
 def echo_caution(text: str, as_json: bool = False) -> None:
     """Print a safety caution on stderr (so that --json output stays clean)."""
     click.secho(f"CAUTION: {text}", err=True, fg="yellow")
+
+def transmission_note(meaning: str) -> str | None:
+    """The one line said under a table about what T means, for a half-space substrate (shared
+    with spectrum, sweep and solve); None for a slab, where T is plainly what comes out."""
+    from filmoptic.engine import TRANSMISSION_MEANINGS
+
+    if meaning == "exits":
+        return None
+    return "note: " + TRANSMISSION_MEANINGS[meaning] + "."
+
+
+def echo_surface_oxides(stack) -> None:
+    """Say under a title what '… + Xnm oxide' expanded to, one line each (stdout)."""
+    for note in stack.surface_oxides():
+        click.echo(f"expanded: {note}")
+
+
+def warn_thin_metal(stack, deposited_nm=None) -> None:
+    """One plain warning line (stderr) when a metal layer, or the solved one at ``deposited_nm``
+    (a number or several solutions), is thinner than continuous-film constants allow."""
+    values = deposited_nm if isinstance(deposited_nm, (list, tuple)) else [deposited_nm]
+    for value in sorted(v for v in values if v is not None) or [None]:
+        message = stack.thin_metal_warning(value)
+        if message:
+            click.echo(f"filmoptic: warning: {message}", err=True)
+            return

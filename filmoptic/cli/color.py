@@ -16,10 +16,13 @@ from filmoptic.cli._common import (
     print_table,
     save_plot,
     user_errors,
+    transmission_note,
+    echo_surface_oxides,
+    warn_thin_metal,
 )
 
 __all__ = ["color", "illuminant_option", "observer_option", "colour_json", "LOW_LIGHT_CAUTION",
-           "ABSORBED_T_NOTE", "OUT_OF_GAMUT_NOTE"]
+           "OUT_OF_GAMUT_NOTE"]
 
 illuminant_option = click.option(
     "--illuminant", default="D65", show_default=True, metavar="NAME|FILE",
@@ -48,9 +51,7 @@ LOW_LIGHT_CAUTION = (
 )
 LOW_LIGHT_LIMIT = 0.10
 
-#: Below a table whose T is light absorbed in an opaque half-space substrate (shared with sweep).
-ABSORBED_T_NOTE = ("T: light entering the substrate, which absorbs it (an opaque half-space); "
-                   "only the reflected colour is seen.")
+
 #: Below a table where a colour marked '*' is shown gamut-mapped (shared with sweep).
 OUT_OF_GAMUT_NOTE = "* outside the sRGB gamut: shown with reduced chroma at the same lightness and hue."
 
@@ -78,22 +79,26 @@ def _colour_row(label, colour) -> list:
             f"{x:.4f}", f"{y:.4f}", f"{float(colour.XYZ[1]):.2f}", colour.hex + mark]
 
 
-def _main_tables(result, title) -> None:
+def _main_tables(result, title, stack=None) -> None:
     rows = []
     for key, label in _VIEWS:
         colour = getattr(result, key)
-        if key == "transmitted" and not result.transmission_exits:
-            label = "into the substrate"
         if colour is not None:
             rows.append(_colour_row(label, colour))
     print_table(["view", "L*", "a*", "b*", "C*", "h°", "x", "y", "Y", "sRGB"], rows, title=title)
+    if stack is not None:
+        echo_surface_oxides(stack)
     lum = result.luminous
     click.echo("")
-    t_label = "transmittance T" if result.transmission_exits else "into the substrate (absorbed there)"
-    lum_rows = [[t_label, percent(lum.T)], ["reflectance R, coated side", percent(lum.R)]]
+    lum_rows = [["transmittance T", percent(lum.T)], ["reflectance R, coated side", percent(lum.R)]]
     if lum.R_reverse is not None:
         lum_rows.append(["reflectance R, substrate side", percent(lum.R_reverse)])
+    lum_rows += [["absorbed in the layers", percent(lum.A_layers)],
+                 ["absorbed in the substrate", percent(lum.A_substrate)]]
     print_table(["luminous value", "%"], lum_rows)
+    note = transmission_note(result.transmission)
+    if note:
+        click.echo(note)
 
 
 def _angle_rows(angles, result) -> list:
@@ -110,25 +115,28 @@ def _angle_rows(angles, result) -> list:
         row += [percent(result.luminous.T[i]), percent(result.luminous.R[i])]
         if result.luminous.R_reverse is not None:
             row.append(percent(result.luminous.R_reverse[i]))
+        row += [percent(result.luminous.A_layers[i]), percent(result.luminous.A_substrate[i])]
         rows.append(row)
     return rows
 
 
-def _angle_headers(has_reverse: bool) -> list:
+def _angle_headers(result) -> list:
     headers = ["angle°"]
     for key, short in (("reflected", "R"), ("reflected_reverse", "Rrev"), ("transmitted", "T")):
-        if key == "reflected_reverse" and not has_reverse:
+        if getattr(result, key) is None:
             continue
         headers += [f"{short} L*", f"{short} a*", f"{short} b*", f"{short} sRGB"]
+    has_reverse = result.reflected_reverse is not None
     headers += ["T lum %", "R lum %"] + (["Rrev lum %"] if has_reverse else [])
-    return headers
+    return headers + ["A layers %", "A substrate %"]
 
 
 def _luminous_json(lum, index=None) -> dict:
     def pick(v):
         return None if v is None else (v if index is None else v[index])
 
-    return {"T": pick(lum.T), "R": pick(lum.R), "R_reverse": pick(lum.R_reverse)}
+    return {"T": pick(lum.T), "R": pick(lum.R), "R_reverse": pick(lum.R_reverse),
+            "A_layers": pick(lum.A_layers), "A_substrate": pick(lum.A_substrate)}
 
 
 def _angles_json(angles, result) -> list:
@@ -138,7 +146,7 @@ def _angles_json(angles, result) -> list:
             "angle_deg": float(angle),
             "reflected": colour_json(result.reflected[i]),
             "reflected_reverse": None if result.reflected_reverse is None else colour_json(result.reflected_reverse[i]),
-            "transmitted": colour_json(result.transmitted[i]),
+            "transmitted": None if result.transmitted is None else colour_json(result.transmitted[i]),
             "luminous": _luminous_json(result.luminous, i),
         })
     return entries
@@ -190,16 +198,21 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
     JSON) and shown with its chroma reduced at the same lightness and hue, never clipped.
 
     When the substrate is an absorbing half-space (a metal or silicon written without a
-    thickness), the transmitted light enters it and is absorbed: the table says so, and the swatch
-    leaves it out.
+    thickness), no light comes through: there is no transmitted colour, T is 0 and the light that
+    enters the substrate is reported as absorbed there. The luminous table splits the absorbed
+    light between the layers and the substrate (inside a glass plate, or in a metal or silicon
+    half-space). For a transparent half-space such as 'glass' without a thickness, T is the
+    light that enters it, and the output says so once.
 
     Luminous transmittance and reflectance follow ISO 9050 (the light's spectrum × the eye's
     daylight sensitivity V(λ), 380–780 nm); with another --illuminant its spectrum replaces D65.
     Light is unpolarised.
 
-    With --json the output holds exactly the keys reflected, reflected_reverse (null for a
-    half-space substrate), transmitted and luminous (T, R, R_reverse as fractions), plus angles
-    when --angles is given.
+    With --json the output holds the keys reflected, reflected_reverse (null for a half-space
+    substrate), transmitted (null when no light comes through), luminous (T, R, R_reverse,
+    A_layers, A_substrate as fractions) and transmission (what T means: exits, enters substrate
+    or opaque) and surface_oxides (what 'METAL D + Xnm oxide' expanded to), plus angles when
+    --angles is given.
 
     Colours on screen and in print depend on the device; compare physical samples under the
     chosen light before promising a colour to a customer.
@@ -220,6 +233,7 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
         result = appearance(parsed, illuminant=illuminant, observer=obs, angle_deg=angle, extrapolate=extrapolate)
         by_angle = (appearance(parsed, illuminant=illuminant, observer=obs, angle_deg=angle_list,
                                extrapolate=extrapolate) if angle_list is not None else None)
+        warn_thin_metal(parsed)
 
     if swatch_path:
         # Written before anything is printed, so that a failure leaves no half report on stdout.
@@ -234,8 +248,10 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
         payload = {
             "reflected": colour_json(result.reflected),
             "reflected_reverse": None if result.reflected_reverse is None else colour_json(result.reflected_reverse),
-            "transmitted": colour_json(result.transmitted),
+            "transmitted": None if result.transmitted is None else colour_json(result.transmitted),
             "luminous": _luminous_json(result.luminous),
+            "transmission": result.transmission,
+            "surface_oxides": list(parsed.surface_oxides()),
         }
         if by_angle is not None:
             payload["angles"] = _angles_json(angle_list, by_angle)
@@ -243,13 +259,11 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
     else:
         title = (f"Colour of {stack!r} — illuminant {label}, {obs}° observer, {angle:g}° incidence, "
                  f"ambient {ambient}")
-        _main_tables(result, title)
+        _main_tables(result, title, parsed)
         if by_angle is not None:
             click.echo("")
-            print_table(_angle_headers(by_angle.reflected_reverse is not None),
-                        _angle_rows(angle_list, by_angle), title="Colour versus viewing angle")
-            if not by_angle.transmission_exits:
-                click.echo(ABSORBED_T_NOTE)
+            print_table(_angle_headers(by_angle), _angle_rows(angle_list, by_angle),
+                        title="Colour versus viewing angle")
         flagged = [result.reflected, result.reflected_reverse, result.transmitted]
         if by_angle is not None:
             flagged += [by_angle.reflected, by_angle.reflected_reverse, by_angle.transmitted]

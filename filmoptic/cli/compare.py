@@ -18,6 +18,20 @@ from filmoptic.cli._common import (
 from filmoptic.cli.solve import EYE_CAUTION, build_conditions, condition_json, condition_options, needs_eye_caution
 
 
+def _warn_thin_metals(table, ambient) -> None:
+    """One warning line for every candidate whose answer is thinner than its film constants allow."""
+    from filmoptic.materials.films import thin_metal_warning
+    from filmoptic.stack import parse_stack
+
+    layers = []
+    for c in table.candidates:
+        if c.thickness_nm is not None:
+            layers += parse_stack(c.stack, ambient=ambient).metal_layers(c.thickness_nm)
+    message = thin_metal_warning(layers)
+    if message:
+        click.echo(f"filmoptic: warning: {message}", err=True)
+
+
 def _num(value, fmt):
     return "–" if value is None else format(value, fmt)
 
@@ -44,13 +58,20 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
       thickness   the thinnest layer that meets the target (or best colour match)
       Tv, Rv      luminous transmittance and reflectance from the coated side (ISO 9050, D65)
       Rv back     luminous reflectance seen through the substrate
-      A           luminous-weighted absorptance (light turned into heat in the film)
+      A film      luminous-weighted absorptance of the layer (light turned into heat in the film)
+      A subst     the same for the substrate (a glass plate's own absorption)
       C* refl/trans  CIELAB chroma of the tint: 0 is neutral grey, above ~5 a visible tint
       per nm      how far a 1 nm thickness error moves the target (percentage points, or ΔE00)
 
     Example:
 
         filmoptic compare Ti Cr Ni Al Ag --on "glass 4mm" --luminous-T 30%
+        filmoptic compare "Al + 2nm oxide" "Ti + 3nm oxide" Ag --on "glass 4mm" --luminous-T 30%
+
+    A candidate written 'METAL + Xnm oxide' carries the native oxide air grows on it (see
+    'filmoptic spectrum --help'); its thickness is the metal deposited. When an answer puts a
+    metal below the thickness where its tabulated constants describe a continuous film (about
+    5 nm for Ti, Cr, Ni, Al; 10-12 nm for Ag, Au, Cu), a warning says so.
 
     A thin metal film's optical constants differ from the bulk values in the tables; treat the
     thicknesses as a starting point for a calibration run.
@@ -70,6 +91,7 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
         raise TargetError("no candidate meets the target: " + "; ".join(c.note for c in table.candidates))
     if needs_eye_caution(conditions, solved):
         echo_caution(EYE_CAUTION)
+    _warn_thin_metals(table, ambient)
     if as_json:
         emit_json({
             "substrate": table.substrate,
@@ -83,7 +105,8 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
         click.echo(f"Condition: {c.label()}" + ("" if c.kind == "colour" else f" = {percent(c.value)} %"))
     click.echo(f"Substrate: {table.substrate}")
     click.echo("")
-    headers = ["material", "thickness (nm)", "Tv %", "Rv %", "Rv back %", "A %", "C* refl", "C* back",
+    headers = ["material", "thickness (nm)", "Tv %", "Rv %", "Rv back %", "A film %", "A subst %",
+               "C* refl", "C* back",
                "C* trans", "ΔE00 per nm" if colour_target else "% per nm"]
     rows = []
     notes = []
@@ -97,7 +120,8 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
             thickness += f" ({c.low_nm:.1f}–{c.high_nm:.1f})"
         change = _num(c.change_per_nm, ".3f") if colour_target else percent(c.change_per_nm, 3)
         rows.append([c.material, thickness, percent(c.luminous_T), percent(c.luminous_R),
-                     percent(c.luminous_R_reverse), percent(c.absorptance), _num(c.reflected_chroma, ".1f"),
+                     percent(c.luminous_R_reverse), percent(c.absorptance_layers),
+                     percent(c.absorptance_substrate), _num(c.reflected_chroma, ".1f"),
                      _num(c.reflected_reverse_chroma, ".1f"), _num(c.transmitted_chroma, ".1f"), change])
     print_table(headers, rows)
     for note in notes:

@@ -85,14 +85,16 @@ def _list(kind, use, as_json):
         emit_json([_info_json(i) for i in infos])
         return
     rows = [
-        [i.name, ("* " if i.default else "  ") + i.dataset, i.kind,
+        [i.name, ("* " if i.default else "  ") + i.dataset, i.kind, i.form or "–",
          format_range_nm(i.wavelength_range_nm), "yes" if serves_colour(i.wavelength_range_nm) else "no",
          i.short_reference]
         for i in infos
     ]
-    print_table(["name", "dataset", "kind", "range", "colour", "reference"], rows)
+    print_table(["name", "dataset", "kind", "measured on", "range", "colour", "reference"], rows)
     click.echo("\n* default dataset; select another as NAME:DATASET. `filmoptic materials NAME` shows "
                "full citations and n, k.")
+    click.echo("measured on: a thin film (with its thickness: closest to films of that thickness), a "
+               "thick film, bulk material, or a model fitted to several sources.")
     click.echo("colour: 'no' = the data stop short of 380–780 nm, so no colour can be computed with them.")
     if kind is None:
         click.echo("Not in the library as visible-range data (looked for, none citable found):")
@@ -130,6 +132,7 @@ def _info_json(info, nk=None):
         "reference": info.reference,
         "citation": info.citation,
         "sample": info.sample,
+        "form": info.form,
         "wavelength_nm": list(info.wavelength_range_nm),
         "serves_colour": serves_colour(info.wavelength_range_nm),
         "licence": info.licence,
@@ -226,6 +229,7 @@ def _show(name, wl, plot_path, plot_range, as_json):
             fields = [
                 ("kind", info.kind),
                 ("sample", info.sample or "–"),
+                ("measured on", info.form or "–"),
                 ("range", format_range_nm(info.wavelength_range_nm)),
                 ("colour work", _colour_fitness(info)),
                 ("reference", info.reference or "–"),

@@ -26,6 +26,8 @@ from filmoptic.cli._common import (
     to_jsonable,
     user_errors,
     write_atomically,
+    echo_surface_oxides,
+    warn_thin_metal,
 )
 
 #: Luminous transmittance below which a caution about eye protection is printed (common practice:
@@ -183,8 +185,9 @@ def condition_json(condition) -> dict:
 def needs_eye_caution(conditions, solutions) -> bool:
     low_target = any(getattr(c, "quantity", "") == "luminous_T" and c.value < EYE_CAUTION_BELOW
                      for c in conditions)
+    # An opaque part (T exactly 0: nothing comes through an absorbing half-space) is no filter.
     low_answer = any(s.companions is not None and s.companions.luminous_T is not None
-                     and s.companions.luminous_T < EYE_CAUTION_BELOW for s in solutions)
+                     and 0 < s.companions.luminous_T < EYE_CAUTION_BELOW for s in solutions)
     return low_target or low_answer
 
 
@@ -229,7 +232,8 @@ def print_result(result, show_companions: bool, law=None) -> None:
     if len(conditions) > 1:
         headers.append("misfit")
     if show_companions:
-        headers += ["Tv %", "Rv %", "Rv back %", "A %", "a*b* refl", "a*b* back", "a*b* trans"]
+        headers += ["Tv %", "Rv %", "Rv back %", "A layers %", "A subst %", "a*b* refl", "a*b* back",
+                    "a*b* trans"]
     rows = []
     for i, s in enumerate(result.solutions, 1):
         row = [i, f"{s.thickness_nm:.2f}", f"{s.low_nm:.2f}", f"{s.high_nm:.2f}"]
@@ -247,8 +251,8 @@ def print_result(result, show_companions: bool, law=None) -> None:
         if show_companions and s.companions is not None:
             cp = s.companions
             row += [percent(cp.luminous_T), percent(cp.luminous_R), percent(cp.luminous_R_reverse),
-                    percent(cp.absorptance), _fmt_ab(cp.reflected_ab), _fmt_ab(cp.reflected_reverse_ab),
-                    _fmt_ab(cp.transmitted_ab)]
+                    percent(cp.absorptance_layers), percent(cp.absorptance_substrate),
+                    _fmt_ab(cp.reflected_ab), _fmt_ab(cp.reflected_reverse_ab), _fmt_ab(cp.transmitted_ab)]
         rows.append(row)
     click.echo("")
     print_table(headers, rows)
@@ -262,7 +266,8 @@ def print_result(result, show_companions: bool, law=None) -> None:
         click.echo(f"Volts from the growth law {law.describe()} ({law.source}).")
     if show_companions:
         click.echo("Tv, Rv: luminous transmittance and reflectance (ISO 9050, D65); 'back' is seen through "
-                   "the substrate; a*b* is the CIELAB tint (D65).")
+                   "the substrate; A: light absorbed in the layers and in the substrate (luminous); a*b* "
+                   "is the CIELAB tint (D65).")
 
 
 @dataclass(frozen=True)
@@ -502,8 +507,9 @@ def solve(stack, range_text, step, readings_path, column, out, volts_text, law_m
     from --uncertainty, the achieved value and the slope (change per nm), so you can see how
     tightly the thickness must be held. A colour target lists the best matches with their ΔE00 (with
     --uncertainty, only those within it, and the interval where ΔE00 stays within it). For a metal
-    layer the table adds what a semi-mirror buyer asks: luminous R from both sides, absorptance, and
-    the tints.
+    layer the table adds what a semi-mirror buyer asks: luminous R from both sides, the light
+    absorbed in the layers and in the substrate (a glass plate's own absorption, or all that enters
+    a metal or silicon half-space, where T is 0), and the tints.
 
     If the condition cannot be met in the range the command says so, names the closest reachable
     value and where, and exits with status 2.
@@ -554,11 +560,13 @@ def solve(stack, range_text, step, readings_path, column, out, volts_text, law_m
     if needs_eye_caution(conditions, result.solutions):
         echo_caution(EYE_CAUTION)
     volts_of = _volts_reader(law)
+    warn_thin_metal(parsed, [s.thickness_nm for s in result.solutions])
     if as_json:
         emit_json({
             **({} if law is None else {"nm_per_volt": law.nm_per_volt, "offset_nm": law.offset_nm,
                                        "law_source": law.source}),
             "stack": result.stack,
+            "surface_oxides": list(parsed.surface_oxides()),
             "layer": result.layer,
             "condition": condition_json(conditions[0]),
             "conditions": [condition_json(c) for c in conditions],
@@ -569,6 +577,7 @@ def solve(stack, range_text, step, readings_path, column, out, volts_text, law_m
         })
         return
     print_result(result, show_companions=_free_layer_kind(parsed) == "metal", law=law)
+    echo_surface_oxides(parsed)
 
 
 def _free_layer_kind(stack) -> str:

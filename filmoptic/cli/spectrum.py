@@ -20,6 +20,9 @@ from filmoptic.cli._common import (
     save_plot,
     user_errors,
     write_atomically,
+    transmission_note,
+    echo_surface_oxides,
+    warn_thin_metal,
 )
 
 __all__ = ["spectrum"]
@@ -50,7 +53,8 @@ _BLOCKING_T = 0.01
 @ambient_option
 @extrapolate_option
 @click.option("--csv", "csv_path", metavar="FILE",
-              help="Also write the table to FILE: wavelength_nm,R,T,A as fractions, with a header.")
+              help="Also write the table to FILE: wavelength_nm,R,T,A,A_layers,A_substrate as "
+                   "fractions, with a header.")
 @click.option("--plot", "plot_path", metavar="FILE",
               help="Draw R, T and A against wavelength into FILE (.png, .svg or .pdf).")
 @json_option
@@ -71,11 +75,23 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
         filmoptic spectrum "[TiO2 55nm / SiO2 92nm]x4 / glass 1mm" --wl 400:900:2 --plot hr.png
         filmoptic spectrum "MgF2 100nm / glass" --angle 45 --pol s --json
 
-    R is the light reflected back into the ambient, T the light that comes out behind the
-    stack (into a half-space substrate, or through a thick one into the medium behind it) and
-    A = 1 - R - T the light the stack absorbs. The table shows percent; --json and --csv give
-    fractions. With --reverse the light comes from the substrate side and --angle is measured
-    in the medium there.
+    R is the light reflected back into the ambient, T the light that comes out behind the part,
+    and A = 1 - R - T the light absorbed, split into A layers (in the coating) and A substrate
+    (inside a substrate slab such as 'glass 4mm'). Through a thick substrate, T is what reaches
+    the medium behind it. Into a transparent half-space ('glass' without a thickness), T is the
+    light that enters it. An absorbing half-space ('Ti', 'Si' without a thickness) lets nothing
+    through: T is 0 and what enters it counts as A substrate. The output says once which of
+    these applies. The table shows percent; --json and --csv give fractions. With --reverse the
+    light comes from the substrate side and --angle is measured in the medium there.
+
+    --json gives stack, ambient, angle_deg, polarization, reverse, wavelength_nm, R, T, A,
+    A_layers, A_substrate, transmission (exits, enters substrate or opaque) and surface_oxides.
+
+    A metal layer may carry the oxide air grows on it: 'Al 10nm + 2nm oxide' is 2 nm of Al2O3
+    on what is left of 10 nm of deposited aluminium once the oxide has consumed its share
+    (Pilling-Bedworth volume ratio); the output shows what it expanded to. A metal thinner than
+    about 5 nm (Ti, Cr, Ni, Al) or 10-12 nm (Ag, Au, Cu) is not the continuous film its tabulated
+    constants describe: a warning says so.
 
     Results are computed from published optical constants, not measured: real films differ
     (density, oxidation, roughness, interdiffusion). Never trust a computed filter for sun,
@@ -115,13 +131,7 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
                                             reverse, extrapolate)
         for message in dict.fromkeys(str(w.message) for w in caught):
             click.echo(f"filmoptic: warning: {' '.join(message.split())}", err=True)
-        if opaque:
-            click.echo(
-                f"filmoptic: note: the substrate {parsed.substrate.text} is an absorbing half-space: "
-                "T is the light that enters it and is absorbed there, nothing comes out behind it "
-                f"(write a thickness, e.g. '{parsed.substrate.text} 1mm', for a slab)",
-                err=True,
-            )
+        warn_thin_metal(parsed)
 
         if csv_path:
             write_atomically(csv_path, lambda fh: _write_csv(fh, result))
@@ -147,14 +157,23 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
             "R": result.R,
             "T": result.T,
             "A": result.A,
+            "A_layers": result.A_layers,
+            "A_substrate": result.A_substrate,
+            "transmission": result.transmission,
+            "surface_oxides": list(parsed.surface_oxides()),
         })
         return
     click.echo(_title(parsed, angle, polarization, reverse))
+    echo_surface_oxides(parsed)
     rows = [
-        [f"{w:g}", percent(r), percent(t), percent(a)]
-        for w, r, t, a in zip(result.wavelength_nm, result.R, result.T, result.A)
+        [f"{w:g}", percent(r), percent(t), percent(a), percent(al), percent(asub)]
+        for w, r, t, a, al, asub in zip(result.wavelength_nm, result.R, result.T, result.A,
+                                        result.A_layers, result.A_substrate)
     ]
-    print_table(["wavelength_nm", "R %", "T %", "A %"], rows)
+    print_table(["wavelength_nm", "R %", "T %", "A %", "A layers %", "A substrate %"], rows)
+    note = transmission_note(result.transmission)
+    if note:
+        click.echo(note)
     if csv_path:
         click.echo(f"wrote {csv_path}")
     if plot_path:
@@ -193,10 +212,14 @@ def _compute_with_progress(compute, parsed, wavelengths, angle, polarization, re
         wavelength_nm=wavelengths, angle_deg=parts[0].angle_deg, polarization=parts[0].polarization,
         R=np.concatenate([p.R for p in parts]), T=np.concatenate([p.T for p in parts]),
         A=np.concatenate([p.A for p in parts]),
+        A_layers=np.concatenate([p.A_layers for p in parts]),
+        A_substrate=np.concatenate([p.A_substrate for p in parts]),
+        transmission=parts[0].transmission,
     )
 
 
 def _write_csv(fh, result) -> None:
-    fh.write("wavelength_nm,R,T,A\n")
-    for w, r, t, a in zip(result.wavelength_nm, result.R, result.T, result.A):
-        fh.write(f"{w:.10g},{r:.12g},{t:.12g},{a:.12g}\n")
+    fh.write("wavelength_nm,R,T,A,A_layers,A_substrate\n")
+    for w, r, t, a, al, asub in zip(result.wavelength_nm, result.R, result.T, result.A,
+                                    result.A_layers, result.A_substrate):
+        fh.write(f"{w:.10g},{r:.12g},{t:.12g},{a:.12g},{al:.12g},{asub:.12g}\n")

@@ -16,10 +16,10 @@ from filmoptic.cli._common import (
     progress,
     save_plot,
     user_errors,
+    transmission_note,
 )
 from filmoptic.cli.anodize import law_from_options, law_options, volts_from_option
 from filmoptic.cli.color import (
-    ABSORBED_T_NOTE,
     OUT_OF_GAMUT_NOTE,
     caution_if_dark,
     illuminant_option,
@@ -137,9 +137,15 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
     of the reflected colour in the a*b* plane with thicknesses marked. Printed and on-screen colours
     depend on the device; judge against real samples.
 
-    With --json: thickness_nm (and volts with a growth law), luminous_T, luminous_R (fractions), reflected_Lab, reflected_hex,
-    reflected_in_gamut, transmitted_Lab, transmitted_hex, transmitted_in_gamut, one entry per
-    thickness.
+    The light absorbed is split between the layers and the substrate (inside a glass plate, or
+    everything entering a metal or silicon half-space). When the substrate is an absorbing
+    half-space no light comes through: there is no transmitted colour and T is 0.
+
+    With --json: thickness_nm (and volts with a growth law), luminous_T, luminous_R,
+    luminous_A_layers, luminous_A_substrate (fractions), reflected_Lab, reflected_hex,
+    reflected_in_gamut, transmitted_Lab, transmitted_hex, transmitted_in_gamut (null when no light
+    comes through), one entry per thickness, and transmission (what T means: exits, enters
+    substrate or opaque).
     """
     import numpy as np
 
@@ -184,35 +190,45 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
                           chart_path)
 
     if as_json:
+        seen = result.transmitted
         emit_json({
             **({} if volts is None else {"volts": volts, "nm_per_volt": law.nm_per_volt,
                                          "offset_nm": law.offset_nm}),
             "thickness_nm": result.thickness_nm,
             "luminous_T": result.luminous_T,
             "luminous_R": result.luminous_R,
+            "luminous_A_layers": result.luminous_A_layers,
+            "luminous_A_substrate": result.luminous_A_substrate,
             "reflected_Lab": result.reflected.Lab,
             "reflected_hex": result.reflected.hex,
             "reflected_in_gamut": result.reflected.in_gamut,
-            "transmitted_Lab": result.transmitted.Lab,
-            "transmitted_hex": result.transmitted.hex,
-            "transmitted_in_gamut": result.transmitted.in_gamut,
+            "transmitted_Lab": None if seen is None else seen.Lab,
+            "transmitted_hex": None if seen is None else seen.hex,
+            "transmitted_in_gamut": None if seen is None else seen.in_gamut,
+            "transmission": result.transmission,
         })
     else:
         rows = []
+        seen = result.transmitted is not None
         for i, d in enumerate(result.thickness_nm):
-            r, t = result.reflected[i], result.transmitted[i]
-            rows.append(
-                ([] if volts is None else [f"{volts[i]:.4g}"]) + [f"{d:g}"] + _lab_text(r.Lab) + [r.hex + ("" if r.in_gamut else " *")]
-                + _lab_text(t.Lab) + [t.hex + ("" if t.in_gamut else " *")]
-                + [percent(result.luminous_T[i]), percent(result.luminous_R[i])]
-            )
+            r = result.reflected[i]
+            row = ([] if volts is None else [f"{volts[i]:.4g}"]) + [f"{d:g}"] + _lab_text(r.Lab) + [r.hex + ("" if r.in_gamut else " *")]
+            if seen:
+                t = result.transmitted[i]
+                row += _lab_text(t.Lab) + [t.hex + ("" if t.in_gamut else " *")]
+            row += [percent(result.luminous_T[i]), percent(result.luminous_R[i]),
+                    percent(result.luminous_A_layers[i]), percent(result.luminous_A_substrate[i])]
+            rows.append(row)
         title = (f"Colour of {stack!r} versus thickness — illuminant {label}, {obs}° observer, "
                  f"{angle:g}° incidence, ambient {ambient}")
-        print_table(([] if volts is None else ["V"]) + ["nm", "R L*", "R a*", "R b*", "R sRGB", "T L*", "T a*", "T b*", "T sRGB",
-                     "T lum %", "R lum %"], rows, title=title)
-        if not result.transmission_exits:
-            click.echo(ABSORBED_T_NOTE)
-        if not (np.all(result.reflected.in_gamut) and np.all(result.transmitted.in_gamut)):
+        headers = (([] if volts is None else ["V"]) + ["nm", "R L*", "R a*", "R b*", "R sRGB"]
+                   + (["T L*", "T a*", "T b*", "T sRGB"] if seen else [])
+                   + ["T lum %", "R lum %", "A layers %", "A substrate %"])
+        print_table(headers, rows, title=title)
+        note = transmission_note(result.transmission)
+        if note:
+            click.echo(note)
+        if not (np.all(result.reflected.in_gamut) and (not seen or np.all(result.transmitted.in_gamut))):
             click.echo(OUT_OF_GAMUT_NOTE)
 
     if chart_path and not as_json:

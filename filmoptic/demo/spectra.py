@@ -15,7 +15,8 @@ def _band_means(spectrum, lo: float, hi: float):
     import numpy as np
 
     inside = (spectrum.wavelength_nm >= lo) & (spectrum.wavelength_nm <= hi)
-    return tuple(float(np.mean(x[inside])) for x in (spectrum.R, spectrum.T, spectrum.A))
+    return tuple(float(np.mean(x[inside]))
+                 for x in (spectrum.R, spectrum.T, spectrum.A_layers, spectrum.A_substrate))
 
 
 def run(outdir: pathlib.Path, say) -> None:
@@ -43,26 +44,29 @@ def run(outdir: pathlib.Path, say) -> None:
     oxide = compute(oxide_stack, wl)
 
     def write(fh):
-        fh.write("wavelength_nm,mirror_R,mirror_T,mirror_A,mirror_R_glass_side,oxide_R,oxide_T,oxide_A\n")
+        fh.write("wavelength_nm,mirror_R,mirror_T,mirror_A_layers,mirror_A_substrate,mirror_R_glass_side,"
+                 "oxide_R,oxide_A_layers,oxide_A_substrate\n")
         for i, w in enumerate(wl):
-            values = (mirror.R[i], mirror.T[i], mirror.A[i], mirror_back.R[i],
-                      oxide.R[i], oxide.T[i], oxide.A[i])
+            values = (mirror.R[i], mirror.T[i], mirror.A_layers[i], mirror.A_substrate[i], mirror_back.R[i],
+                      oxide.R[i], oxide.A_layers[i], oxide.A_substrate[i])
             fh.write(f"{w:g}," + ",".join(f"{v:.6f}" for v in values) + "\n")
 
     write_atomically(outdir / "spectra.csv", write)
     save_figure(plot_spectra([
         (f"semi-mirror: {mirror_stack.text}", mirror),
-        (f"oxide film: {oxide_stack.text}  (T: light entering the bulk metal, absorbed there)", oxide),
+        (f"oxide film: {oxide_stack.text}  (no light comes through the bulk metal)", oxide),
     ]), outdir / "spectra.png")
 
-    R, T, A = _band_means(mirror, 450.0, 650.0)
+    R, T, A_film, A_glass = _band_means(mirror, 450.0, 650.0)
     R_back = float(np.mean(mirror_back.R[(wl >= 450) & (wl <= 650)]))
     say(f"Semi-mirror {mirror_stack.text}, light from the coated side, 450–650 nm on average:")
-    say(f"  R {100 * R:.1f} %, T {100 * T:.1f} %, A {100 * A:.1f} %; "
-        f"seen from the glass side R {100 * R_back:.1f} % (same T, different R: the metal absorbs)")
-    R, T, A = _band_means(oxide, 450.0, 650.0)
+    say(f"  R {100 * R:.1f} %, T {100 * T:.1f} %, absorbed {100 * A_film:.1f} % in the film and "
+        f"{100 * A_glass:.1f} % in the glass (its iron); seen from the glass side R {100 * R_back:.1f} % "
+        "(same T, different R: the metal absorbs)")
+    R, T, A_film, A_metal = _band_means(oxide, 450.0, 650.0)
     low = wl[int(np.argmin(oxide.R))]
     say(f"Oxide film {oxide_stack.text}: R {100 * R:.1f} % on average over 450–650 nm, "
         f"lowest at {low:g} nm ({100 * float(oxide.R.min()):.1f} %) — that dip sets its colour;")
-    say(f"  the rest ({100 * T:.1f} % on average) enters the bulk titanium and is absorbed there")
+    say(f"  nothing comes through: the rest ({100 * A_metal:.1f} % on average) enters the bulk titanium "
+        "and is absorbed there")
     say("  → spectra.csv (fractions), spectra.png (R, T, A against wavelength)")

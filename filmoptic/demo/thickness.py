@@ -46,14 +46,16 @@ def run(outdir: pathlib.Path, say) -> None:
             say(f"  {c.material:3s} cannot reach it ({c.note})")
             continue
         say(f"  {c.material:3s} {c.thickness_nm:6.2f} nm   Rv {_pct(c.luminous_R)} coated side, "
-            f"{_pct(c.luminous_R_reverse)} glass side, absorbs {_pct(c.absorptance)}, "
+            f"{_pct(c.luminous_R_reverse)} glass side, absorbs {_pct(c.absorptance_layers)} "
+            f"(+ {_pct(c.absorptance_substrate)} in the glass), "
             f"tint C* {c.reflected_chroma:.1f} (reflected), {c.transmitted_chroma:.1f} (transmitted)")
         rows.append([c.material, f"{c.thickness_nm:.3f}", f"{c.luminous_T:.4f}", f"{c.luminous_R:.4f}",
-                     f"{c.luminous_R_reverse:.4f}", f"{c.absorptance:.4f}", f"{c.reflected_chroma:.2f}",
+                     f"{c.luminous_R_reverse:.4f}", f"{c.absorptance_layers:.4f}",
+                     f"{c.absorptance_substrate:.4f}", f"{c.reflected_chroma:.2f}",
                      f"{c.transmitted_chroma:.2f}", f"{c.change_per_nm:.5f}"])
     write_csv(outdir / "thickness_compare.csv",
                ["material", "thickness_nm", "luminous_T", "luminous_R", "luminous_R_glass_side",
-                "absorptance", "chroma_reflected", "chroma_transmitted", "luminous_T_change_per_nm"], rows)
+                "absorptance_film", "absorptance_glass", "chroma_reflected", "chroma_transmitted", "luminous_T_change_per_nm"], rows)
     say("  → thickness_compare.csv")
 
     # 2. The lux-meter reading after the titanium run: thickness with an uncertainty.

@@ -98,6 +98,10 @@ class MaterialInfo:
         Other accepted dataset names (e.g. the short name of the source entry).
     citation : str
         Short form of the reference (journal, volume, pages, year), ``""`` if unknown.
+    form : str
+        How the sample was made: ``"thin film, N nm"``, ``"film"``, ``"bulk"`` or ``"model fit"``
+        (the header's ``form``, else read from ``sample`` by
+        :func:`filmoptic.materials.films.sample_form`); ``""`` if unknown.
     """
 
     name: str
@@ -113,6 +117,7 @@ class MaterialInfo:
     overrides: bool = False
     aliases: tuple = ()
     citation: str = ""
+    form: str = ""
 
     @property
     def label(self) -> str:

@@ -23,6 +23,7 @@ from pathlib import Path
 from filmoptic.errors import DataFileError, UnknownMaterialError
 
 from .base import KINDS, MaterialInfo
+from .films import sample_form
 from .tables import TabulatedMaterial, header_range, load_nk_file, read_header
 
 __all__ = ["get_material", "list_materials", "material_names", "library_folders", "ENV_VAR"]
@@ -86,6 +87,7 @@ def _info_from_file(path: Path, source: str) -> MaterialInfo:
         kind=kind, reference=header.get("reference", ""), sample=header.get("sample", ""),
         wavelength_range_nm=tuple(float(x) for x in wl_range), licence=header.get("licence", ""),
         path=str(path), source=source, aliases=aliases, citation=header.get("citation", ""),
+        form=header.get("form", "") or sample_form(header.get("sample", "")),
     )
 
 

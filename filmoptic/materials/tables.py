@@ -17,6 +17,7 @@ the data, so a tabulated k ≥ 0 stays ≥ 0.
 from __future__ import annotations
 
 import functools
+import math
 import os
 import re
 from pathlib import Path
@@ -75,6 +76,10 @@ class TabulatedMaterial(Material):
         self.n = n
         self.k = k
         self._interpolants = None
+        self._gas = _gas_formula(self.header)
+        if self._gas is not None:
+            # A gas (air) serves every wavelength: its published formula beyond the table.
+            self.wavelength_range_nm = (0.0, math.inf)
         #: False for a library dataset that is not its name's default (set by the library).
         self.is_default = True
 
@@ -101,8 +106,42 @@ class TabulatedMaterial(Material):
     def _nk(self, wl):
         if self.wavelength.size == 1:
             return np.full(wl.shape, complex(self.n[0], self.k[0]))
+        if self._gas is not None:
+            return self._gas_nk(wl)
         n_of, k_of = self.interpolants()
         return n_of(wl) + 1j * np.maximum(k_of(wl), 0.0)
+
+    def _gas_nk(self, wl):
+        """Inside the table as tabulated; above it the dispersion formula of its header, which
+        tends to the long-wavelength limit (1.000273 for standard air, Ciddor 1996); below it the
+        first row, since the formula's pole lies in the vacuum ultraviolet (where air absorbs and
+        coating work happens in vacuum). Either way within 3e-4 of 1."""
+        lo, hi = self.wavelength[0], self.wavelength[-1]
+        n_of, _ = self.interpolants()
+        inside = np.clip(wl, lo, hi)
+        n = n_of(inside)
+        above = wl > hi
+        if np.any(above):
+            n = np.where(above, self._gas(np.where(above, wl, hi)), n)
+        return n + 0j
+
+
+def _gas_formula(header):
+    """n(λ_nm) of a gas dispersion formula in a file header (n − 1 = C1 + Σ C2i/(C2i+1 − λ⁻²),
+    λ in µm; Ciddor 1996 for air), or None for any other table."""
+    formula = header.get("formula", "")
+    if "(gases)" not in formula or header.get("kind", "") != "ambient":
+        return None
+    try:
+        c = [float(x) for x in header.get("coefficients", "").split("=", 1)[1].split()]
+    except (IndexError, ValueError):
+        return None
+
+    def n_of(wl_nm):
+        inv2 = (np.asarray(wl_nm, dtype=float) / 1000.0) ** -2.0
+        return 1.0 + c[0] + sum(c[i] / (c[i + 1] - inv2) for i in range(1, len(c) - 1, 2))
+
+    return n_of
 
 
 def check_wavelength_column(wl, label) -> None:

@@ -90,7 +90,7 @@ def sweep_chart(sweep, *, title: str | None = None, axis=None):
     ticks = thickness_ticks(float(d.min()), float(d.max()), target=12)
     minor = thickness_ticks(float(d.min()), float(d.max()), target=50)
 
-    see_through = bool(getattr(sweep, "transmission_exits", True))
+    see_through = sweep.transmitted is not None
     fig, ax0 = new_figure(figsize=A4_LANDSCAPE_IN)
     ax0.remove()
     ratios = [1.0, 1.0, 0.12, 2.4] if see_through else [1.5, 0.25, 2.6]
@@ -114,6 +114,11 @@ def sweep_chart(sweep, *, title: str | None = None, axis=None):
     if see_through:
         ax_l.plot(d, 100 * np.asarray(sweep.luminous_T), color="#1f5fa8", lw=1.8, label="luminous T")
     ax_l.plot(d, 100 * np.asarray(sweep.luminous_R), color="#c0392b", lw=1.8, label="luminous R")
+    if sweep.luminous_A_substrate is not None and np.any(sweep.luminous_A_substrate > 0):
+        ax_l.plot(d, 100 * np.asarray(sweep.luminous_A_layers), color="#7d6608", lw=1.4, ls=":",
+                  label="absorbed in the layers")
+        ax_l.plot(d, 100 * np.asarray(sweep.luminous_A_substrate), color="0.35", lw=1.4, ls="-.",
+                  label="absorbed in the substrate")
     ax_l.set_ylim(0, 100)
     ax_l.set_ylabel("luminous value (%)", fontsize=10)
     ax_l.set_xlabel(x_label, fontsize=10)
@@ -134,7 +139,8 @@ def sweep_chart(sweep, *, title: str | None = None, axis=None):
              fontsize=9.5, va="center", color="0.25")
     if not see_through:
         fig.text(0.03, 0.068, "The substrate absorbs all light that enters it: only the reflected colour "
-                 "is seen (luminous R shown; the rest is absorbed).", fontsize=8, color="0.25", va="center")
+                 "is seen (luminous R shown, and where the light is absorbed).", fontsize=8, color="0.25",
+                 va="center")
     fig.text(0.03, 0.03,
              "Hatched along a strip's lower edge: outside the sRGB gamut, shown with reduced chroma at the same lightness "
              "and hue.  Computed from published optical constants; real films differ with density, roughness "

@@ -12,6 +12,9 @@ __all__ = ["plot_spectrum", "plot_spectra"]
 def plot_spectrum(spectrum, title: str | None = None):
     """R, T and A (percent) of a :class:`~filmoptic.engine.Spectrum` against wavelength.
 
+    No T curve is drawn for an opaque part (an absorbing half-space substrate); where the
+    substrate absorbs, A is drawn split into the layers' and the substrate's share.
+
     Parameters
     ----------
     spectrum : filmoptic.engine.Spectrum
@@ -26,9 +29,12 @@ def plot_spectrum(spectrum, title: str | None = None):
     Examples
     --------
     >>> from filmoptic.engine import compute
-    >>> fig = plot_spectrum(compute("n=2.3 60nm / n=1.52", [400.0, 500.0, 600.0]))
+    >>> fig = plot_spectrum(compute("n=2.3 60nm / n=1.52 1mm", [400.0, 500.0, 600.0]))
     >>> [line.get_label() for line in fig.axes[0].lines]
     ['R', 'T', 'A']
+    >>> fig = plot_spectrum(compute("n=2.3 60nm / n=2+1j", [400.0, 500.0]))   # nothing comes through
+    >>> [line.get_label() for line in fig.axes[0].lines]
+    ['R', 'A, layers', 'A, substrate']
     """
     return plot_spectra([(title, spectrum)])
 
@@ -48,8 +54,7 @@ def plot_spectra(panels):
                            sharex=True)
     for ax, (title, spectrum) in zip(axes[:, 0], panels):
         wl = np.asarray(spectrum.wavelength_nm)
-        for name, values, style in (("R", spectrum.R, "-"), ("T", spectrum.T, "--"),
-                                    ("A", spectrum.A, ":")):
+        for name, values, style in _curves(spectrum):
             ax.plot(wl, 100.0 * np.asarray(values).reshape(-1, wl.size)[0], style, label=name, lw=1.6)
         ax.set_ylabel("percent of incident light")
         if wl.size > 1:
@@ -62,3 +67,19 @@ def plot_spectra(panels):
     axes[-1, 0].set_xlabel("wavelength (nm)")
     fig.tight_layout()
     return fig
+
+
+def _curves(spectrum):
+    """(label, values, line style) to draw: no T curve for an opaque part, and the absorbed
+    light split into layers and substrate wherever the substrate absorbs any of it."""
+    meaning = getattr(spectrum, "transmission", "exits")
+    curves = [("R", spectrum.R, "-")]
+    if meaning != "opaque":
+        label = "T (into the substrate)" if meaning == "enters substrate" else "T"
+        curves.append((label, spectrum.T, "--"))
+    A_substrate = getattr(spectrum, "A_substrate", None)
+    if A_substrate is not None and np.any(np.asarray(A_substrate) > 0):
+        curves += [("A, layers", spectrum.A_layers, ":"), ("A, substrate", A_substrate, "-.")]
+    else:
+        curves.append(("A", spectrum.A, ":"))
+    return curves

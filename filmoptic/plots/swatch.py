@@ -66,7 +66,7 @@ def swatch_figure(result, *, stack_text: str, ambient: str = "air", angle_deg: f
     matplotlib.figure.Figure
     """
     views = [(key, title, lum) for key, title, lum in _VIEWS
-             if getattr(result, key) is not None and (key != "transmitted" or result.transmission_exits)]
+             if getattr(result, key) is not None]
     n_rows = 0 if by_angle is None else len(angles_deg)
 
     width = SWATCH_WIDTH_CM * _CM
@@ -134,4 +134,11 @@ def swatch_figure(result, *, stack_text: str, ambient: str = "air", angle_deg: f
     note = ("* outside sRGB: shown with reduced chroma at the same lightness and hue.   "
             "Screen and print colours vary; compare real samples.")
     ax.text(margin, y + footer_h / 2, note, fontsize=6, va="center", color="0.35")
+    lum = result.luminous
+    if lum.A_substrate is not None:
+        absorbed = (f"Absorbed (luminous): {100 * float(lum.A_layers):.1f} % in the layers, "
+                    f"{100 * float(lum.A_substrate):.1f} % in the substrate")
+        if result.transmitted is None:
+            absorbed += " (an opaque half-space: no light comes through)"
+        ax.text(margin, y + 0.06, absorbed, fontsize=6.5, va="center", color="0.2")
     return fig
