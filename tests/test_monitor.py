@@ -133,11 +133,14 @@ def test_metal_model_falls_monotonically_and_has_no_flat_zone():
 def test_open_reference_divides_by_the_open_beam():
     bare = signal_model(QW_STACK, "laser:633", "flat", "bare", range_nm=(0, 100))
     open_ = signal_model(QW_STACK, "laser:633", "flat", "open", range_nm=(0, 100))
-    n_glass = _indices(LASER_NM)[1].real
-    n_air = _indices(LASER_NM)[2].real
+    glass = _indices(LASER_NM)[1]
+    n_glass, n_air = glass.real, _indices(LASER_NM)[2].real
     r = ((n_glass - n_air) / (n_glass + n_air)) ** 2
-    # A bare slab passes (1 − R)²/(1 − R²) of the open beam (two surfaces, incoherent; common practice).
-    assert open_.ratio[0] == pytest.approx((1 - r) ** 2 / (1 - r**2), abs=1e-9)
+    # The 1 mm slab's single-pass internal transmittance (Beer–Lambert, exp(−4πkd/λ)).
+    tau = np.exp(-4 * np.pi * glass.imag * 1e6 / LASER_NM)
+    # A bare slab passes (1 − R)²τ/(1 − R²τ²) of the open beam (two surfaces, incoherent; common
+    # practice).
+    assert open_.ratio[0] == pytest.approx((1 - r) ** 2 * tau / (1 - r**2 * tau**2), abs=1e-9)
     assert np.allclose(open_.ratio, bare.ratio * open_.ratio[0], atol=1e-12)
 
 

@@ -119,7 +119,7 @@ def render_transmission(stack, thickness_nm, *, illuminant="D65", exposure=0.85,
     >>> photo, flat = render_transmission("Ti ? / glass 4mm", field, exposure=1.0)
     >>> from filmoptic.imaging.photo import LUMINANCE_WEIGHTS
     >>> (photo[0] @ LUMINANCE_WEIGHTS).round(3).tolist()
-    [1.0, 0.917, 0.273]
+    [1.0, 0.894, 0.266]
     """
     from ..colorimetry import colour_sweep, default_wavelengths
     from ..solve import Reading, evaluate_condition
