@@ -193,6 +193,21 @@ def test_air_serves_every_wavelength_the_layers_cover(run_cli):
     assert len(data["R"]) == 22 and min(data["R"][3:]) > 0.9   # an opaque silver mirror
 
 
+def test_a_silver_mirror_into_the_infrared_and_the_hint_that_leads_there(run_cli):
+    # Johnson & Christy (Phys. Rev. B 6, 4370, 1972) measured silver to 1937 nm; Yang et al.
+    # (Phys. Rev. B 91, 235137, 2015) to 24.9 µm. A 400–2500 nm mirror on the default Ag is refused
+    # with a pointer to datasets that cover the range, thick-film ones first.
+    refused = run_cli(["spectrum", "Ag 150nm / sapphire 1mm", "--wl", "400:2500:100"])
+    assert_user_error(refused, "Ag:Johnson-1972", "such as Ag:Babar-2015", "Ag:Yang-2015")
+    assert refused.stderr.index("Babar-2015") < refused.stderr.index("Ciesielski")
+    result = run_cli(["spectrum", "Ag:Yang-2015 150nm / sapphire 1mm", "--wl", "400:2500:100", "--json"])
+    assert result.exit_code == 0, result.stderr
+    R = json.loads(result.stdout)["R"]
+    # An opaque silver mirror reflects over 95 % from 500 nm into the infrared, rising with
+    # wavelength (common practice).
+    assert min(R[1:]) > 0.95 and R[-1] > R[1]
+
+
 def test_a_liquid_ambient_outside_its_table_suggests_a_constant(run_cli):
     # Water by Daimon & Masumura 2007 is given to 1129 nm; a liquid barely disperses, so the
     # message offers its index at the table's end as a constant.

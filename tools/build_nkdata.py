@@ -182,6 +182,12 @@ SOURCES += [
     Source("Ag", "Ciesielski-2017-Ge", "main/Ag/Ciesielski-Ge", M, "e-beam evaporated film, 20 nm, on SiO2 over a 2 nm Ge wetting layer (continuous)", False, (), "thin film, 20 nm"),
     Source("Ag", "Ciesielski-2017-Ni", "main/Ag/Ciesielski-Ni", M, "e-beam evaporated film, 20 nm, on SiO2 over a 2 nm Ni wetting layer", False, (), "thin film, 20 nm"),
     Source("Ag", "Jiang-2016", "main/Ag/Jiang", M, "evaporated films on silicon nitride and glass, overlayer-protected, fresh and annealed", False, (), "film"),
+    # Silver, gold and copper into the infrared (beyond Johnson & Christy's 1937 nm): mirrors and
+    # low-emissivity work run to 2.5 µm and beyond.
+    Source("Ag", "Yang-2015", "main/Ag/Yang", M, "template-stripped silver film (smooth, bulk-like)", False, (), "film"),
+    Source("Ag", "Babar-2015", "main/Ag/Babar", M, "evaporated films", False, (), "film"),
+    Source("Au", "Babar-2015", "main/Au/Babar", M, "evaporated films", False, (), "film"),
+    Source("Cu", "Babar-2015", "main/Cu/Babar", M, "evaporated films", False, (), "film"),
     Source("Ti", "Palm-2018", "main/Ti/Palm", M, "e-beam evaporated film, 200 nm, vacuum annealed 2 h at 350 °C", False, (), "film"),
 ]
 

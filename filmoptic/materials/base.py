@@ -236,6 +236,21 @@ class Material:
     def _nk(self, wavelength_nm: np.ndarray) -> np.ndarray:  # pragma: no cover - abstract
         raise NotImplementedError
 
+    def _covering_hint(self, wl: np.ndarray) -> str:
+        """`` (NAME:DATASET covers …)`` for library datasets of this material that do cover
+        ``wl``; empty for models, files and where none does."""
+        if self.dataset in ("", "model", "file") or ":" in self.name:
+            return ""
+        from .library import datasets_covering  # the library builds on this module
+
+        covering = [i for i in datasets_covering(self.name, float(wl.min()), float(wl.max()))
+                    if i.dataset != self.dataset]
+        if not covering:
+            return ""
+        named = ", ".join(f"{i.name}:{i.dataset} ({format_range_nm(i.wavelength_range_nm)})"
+                          for i in covering[:3])
+        return f" such as {named}"
+
     def _check_range(self, wl: np.ndarray, extrapolate: bool) -> np.ndarray:
         lo, hi = self.wavelength_range_nm
         if not wl.size or (lo <= 0 and math.isinf(hi)):
@@ -256,7 +271,8 @@ class Material:
                 raise WavelengthRangeError(
                     f"{self.label}: {worst:g} nm is outside its data range "
                     f"{format_range_nm(self.wavelength_range_nm)}; choose wavelengths inside it, "
-                    f"pick another dataset, or allow holding the end values (--extrapolate){constant}"
+                    f"pick another dataset{self._covering_hint(wl)}, or allow holding the end "
+                    f"values (--extrapolate){constant}"
                 )
             warnings.warn(
                 f"{self.label}: data cover {format_range_nm(self.wavelength_range_nm)}; "

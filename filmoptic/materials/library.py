@@ -151,6 +151,25 @@ def list_materials() -> list:
     return out
 
 
+def datasets_covering(name: str, low_nm: float, high_nm: float) -> list:
+    """The datasets of library material ``name`` whose range covers ``low_nm``–``high_nm``.
+
+    For the hint of a wavelength-range error: another dataset of the same material may serve
+    (Johnson & Christy's silver stops at 1937 nm; Yang 2015 runs to 24.9 µm).
+
+    Examples
+    --------
+    >>> [i.dataset for i in datasets_covering("Ag", 400, 2500)][:1]
+    ['Babar-2015']
+    """
+    entry = _index().get(name.strip().lower())
+    if entry is None:
+        return []
+    # Datasets of thick films and bulk material first: they stand for a part that is not a thin film.
+    ordered = sorted(entry[1].values(), key=lambda i: ((i.form or "").startswith("thin"), _natural(i.dataset)))
+    return [i for i in ordered if i.wavelength_range_nm[0] <= low_nm and i.wavelength_range_nm[1] >= high_nm]
+
+
 def suggest(name: str, choices, n: int = 4) -> list:
     """Close matches for a mistyped name (case-insensitive, difflib)."""
     lowered = {c.lower(): c for c in choices}
