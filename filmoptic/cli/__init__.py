@@ -202,10 +202,17 @@ def main(argv=None) -> int:
     single line on stderr and exit code 2, never a traceback. Set ``FILMOPTIC_DEBUG=1`` to see the
     traceback of an unexpected error.
     """
+    from filmoptic.notes import collecting
+
     args = sys.argv[1:] if argv is None else list(argv)
-    with warnings.catch_warnings():
+    with warnings.catch_warnings(), collecting() as notes:
         warnings.showwarning = _show_warning
-        return _run(args)
+        code = _run(args)
+    if code == 0:
+        # How files were read and which defaults were taken: after the output, on stderr.
+        for kind, line in notes:
+            click.echo(f"filmoptic: {kind}: {line}", err=True)
+    return code
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:

@@ -57,7 +57,7 @@ def run(outdir: pathlib.Path, say) -> None:
     say("  → thickness_compare.csv")
 
     # 2. The lux-meter reading after the titanium run: thickness with an uncertainty.
-    ratio = parse_reading(f"{sc.LUX_COATED}/{sc.LUX_OPEN}")
+    ratio = parse_reading(f"{sc.LUX_COATED}/{sc.LUX_OPEN}").ratio
     reading = Reading(ratio, source=sc.LUX_SOURCE, detector="photopic", reference="open",
                       uncertainty=sc.LUX_UNCERTAINTY * ratio)
     result = solve_thickness(sc.LUX_STACK, reading)
