@@ -176,7 +176,7 @@ def dark_corrected_ratio(sample: float, reference: float, dark: float = 0.0, wha
 
     Examples
     --------
-    >>> dark_corrected_ratio(2.3, 7.1, 0.02)
+    >>> round(dark_corrected_ratio(2.12, 7.02, 0.02), 12)
     0.3
     """
     s, r = sample - dark, reference - dark
@@ -230,7 +230,7 @@ def parse_reading(text, dark=None, what: str = "--reading") -> MeterReading:
     0.3043
     >>> parse_reading("30%").ratio
     0.3
-    >>> r = parse_reading("2.3V/7100mV", dark="20mV")
+    >>> r = parse_reading("2.12V/7020mV", dark="20mV")
     >>> round(r.ratio, 12), r.unit, r.dark
     (0.3, 'V', 0.02)
     """
@@ -341,7 +341,10 @@ def detector_response(detector: str):
             f"silicon (a silicon photodiode) or the path of a two-column response file "
             f"(no file {det!r} found){_detector_hint(det)}"
         )
+    from .notes import note_file
+
     table = read_spectrum_file(os.path.expanduser(det), what="detector response file")
+    note_file(det, table.how_read)
     return table.at, table.range_nm
 
 

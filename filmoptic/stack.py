@@ -438,8 +438,8 @@ def quarter_wave_nm(material, count: float, wavelength_nm: float) -> float:
     Examples
     --------
     >>> from filmoptic.materials import parse_material
-    >>> quarter_wave_nm(parse_material("n=1.38"), 1, 550.0)
-    99.63768115942028
+    >>> round(quarter_wave_nm(parse_material("n=1.38"), 1, 550.0), 6)
+    99.637681
     """
     import numpy as np
 

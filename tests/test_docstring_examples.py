@@ -39,6 +39,11 @@ MODULES = [
     "filmoptic.plots.chart",
     "filmoptic.plots.nk",
     "filmoptic.plots.spectrum",
+    "filmoptic.plots.solve",
+    "filmoptic.notes",
+    "filmoptic.materials.common_names",
+    "filmoptic.cli.spectrum",
+    "filmoptic.cli.sweep",
 ]
 
 

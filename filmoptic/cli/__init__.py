@@ -21,6 +21,7 @@ __all__ = ["cli", "main"]
 COMMANDS = {
     "spectrum": ("filmoptic.cli.spectrum", "spectrum", "Reflectance, transmittance and absorptance of a stack."),
     "color": ("filmoptic.cli.color", "color", "Colour and luminous values seen in reflection and transmission."),
+    "colour": ("filmoptic.cli.color", "color", "The same as color."),
     "sweep": ("filmoptic.cli.sweep", "sweep", "Colour and luminous values over a range of one layer's thickness."),
     "solve": ("filmoptic.cli.solve", "solve", "Find the thickness that meets a target or explains a reading."),
     "compare": ("filmoptic.cli.compare", "compare", "Compare candidate materials for the same target."),

@@ -34,6 +34,7 @@ __all__ = [
     "echo_caution",
     "WavelengthsType",
     "FractionType",
+    "PolarizationType",
 ]
 
 
@@ -83,6 +84,17 @@ extrapolate_option = click.option(
     "--extrapolate", is_flag=True,
     help="Allow wavelengths outside a table's range by holding its end values (with a warning).",
 )
+
+
+class PolarizationType(click.Choice):
+    """s, p or unpolarized; both English spellings (unpolarised) and any case."""
+
+    def __init__(self):
+        super().__init__(["s", "p", "unpolarized", "unpolarised"], case_sensitive=False)
+
+    def convert(self, value, param, ctx):
+        chosen = super().convert(value, param, ctx)
+        return "unpolarized" if str(chosen).lower().startswith("unpolari") else str(chosen).lower()
 
 
 class WavelengthsType(click.ParamType):

@@ -151,6 +151,9 @@ def _parse_file(text: str) -> Material:
     if not path:
         raise StackSyntaxError("file: needs a path, e.g. file:my_film.txt")
     table = load_nk_file(path)
+    from filmoptic.notes import note_file
+
+    note_file(path, getattr(table, "how_read", "n,k table"))
     # The cached table is shared; hand out a copy that remembers how it was written.
     material = object.__new__(type(table))
     material.__dict__.update(table.__dict__)
