@@ -187,7 +187,9 @@ def _wavelength_nm(part: str, what: str, text: str) -> float:
 
 
 def parse_range_nm(text: str, what: str = "--range", need_step: bool = False) -> tuple:
-    """Parse ``START:STOP`` or ``START:STOP:STEP`` (nm) into a tuple of floats.
+    """Parse ``START:STOP`` or ``START:STOP:STEP`` (nm) into a tuple of floats in nm.
+
+    A bare number is nm; each part may carry its own length unit (``0:2000A:10A`` in Ångström).
 
     Examples
     --------
@@ -195,12 +197,14 @@ def parse_range_nm(text: str, what: str = "--range", need_step: bool = False) ->
     (0.0, 200.0, 2.0)
     >>> parse_range_nm("5:80")
     (5.0, 80.0)
+    >>> parse_range_nm("0A:500A:10A")
+    (0.0, 50.0, 1.0)
     """
-    parts = [p.strip().removesuffix("nm").strip() for p in str(text).split(":")]
+    parts = [p.strip() for p in str(text).split(":")]
     if len(parts) not in ((3,) if need_step else (2, 3)):
         form = "START:STOP:STEP" if need_step else "START:STOP[:STEP]"
         raise FilmopticError(f"{what}: expected {form} in nm, got {text!r}")
-    values = tuple(parse_number(p, what) for p in parts)
+    values = tuple(parse_length_nm(p, what) if _LENGTH_RE.match(p) else parse_number(p, what) for p in parts)
     if values[0] < 0 or values[1] <= values[0]:
         raise FilmopticError(f"{what}: need 0 <= START < STOP, got {text!r}")
     if len(values) == 3:

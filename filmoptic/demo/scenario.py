@@ -66,3 +66,8 @@ ANODIZE_OFFSET_NM = 3.0                   # invented: air-formed oxide before an
 ANODIZE_USUAL_VOLTS = 24.0                # invented: where the studio usually runs for blue
 ANODIZE_LOGO_HEX = "#c45ab9"              # invented: the museum shop's magenta logo colour
 ANODIZE_MAX_DELTA_E = 6.0                 # invented: the shop's tolerance for the logo colour
+
+# --- Notation of the trade (quarter waves): the display case's antireflection coating ---------
+# invented: the studio coats its display-case glass with one quarter wave of MgF2 at 550 nm,
+# written as the trade does instead of in nm.
+DISPLAY_AR_STACK = "{550nm} MgF2 1qw / glass 4mm"
