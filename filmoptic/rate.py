@@ -48,7 +48,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import DataFileError, FilmopticError
-from .units import CLOCK_DURATION, parse_duration_s, parse_length_nm, parse_number
+from .units import parse_duration_s, parse_length_nm, parse_number
 
 __all__ = [
     "Run",
@@ -300,7 +300,8 @@ def parse_run(text: str, tooling_factor: float | None = None) -> Run:
     text = str(text).strip()
     if ":" not in text:
         raise FilmopticError(f"--run: expected DURATION:THICKNESS such as '5min:21.8nm', got {text!r}")
-    clock = re.match(rf"^({CLOCK_DURATION})\s*:(?=.)", text)
+    # Digits joined by colons before the last colon: a stopwatch time (checked by parse_duration_s).
+    clock = re.match(r"^(\d+(?::\d+(?:\.\d+)?)+)\s*:(?=.)", text)
     if clock:
         # A stopwatch time (5:30, 1:05:00) before the thickness: '5:30:21.8nm'.
         duration_text, thickness_text = clock.group(1), text[clock.end():].strip()
