@@ -353,20 +353,7 @@ def _split_settings(text: str):
 
 def _setting_words(settings: str) -> list:
     """Settings split at white space and commas outside parentheses (a mix(…) keeps its commas)."""
-    words, depth, current = [], 0, []
-    for ch in settings:
-        if ch in "([":
-            depth += 1
-        elif ch in ")]":
-            depth -= 1
-        if depth == 0 and (ch.isspace() or ch == ","):
-            if current:
-                words.append("".join(current))
-                current = []
-        else:
-            current.append(ch)
-    if current:
-        words.append("".join(current))
+    words = _top_level_words(settings, also=",")
     # "H = TiO2" written with spaces: glue the pieces back together.
     glued = []
     for word in words:
@@ -755,14 +742,15 @@ def _outside_brackets(item: str) -> str:
     return "".join(out)
 
 
-def _top_level_words(item: str) -> list:
+def _top_level_words(item: str, also: str = "") -> list:
+    """Words split at white space (and the characters in ``also``) outside brackets."""
     words, depth, current = [], 0, []
     for ch in item:
         if ch in "([":
             depth += 1
         elif ch in ")]":
             depth -= 1
-        if ch.isspace() and depth == 0:
+        if (ch.isspace() or ch in also) and depth == 0:
             if current:
                 words.append("".join(current))
                 current = []
