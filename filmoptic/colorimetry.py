@@ -174,11 +174,14 @@ class TabulatedSpectrum:
         Non-negative values (relative spectral power, or relative response), same length.
     source : str
         Where the table came from (the file path), used in messages.
+    how_read : str
+        How a file was read (separator, columns, rows), for the user; ``""`` for built-in tables.
     """
 
     wavelength_nm: np.ndarray
     values: np.ndarray
     source: str
+    how_read: str = ""
 
     @property
     def range_nm(self) -> tuple[float, float]:
@@ -268,11 +271,15 @@ def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectru
 
     wavelengths, values = [], []
     header_seen = False
+    separator = None
     for number, raw in enumerate(text.splitlines(), start=1):
         line = raw.strip()
         if not line or line.startswith("#"):
             continue
         fields = [f for f in _SEPARATORS.split(line) if f]
+        if separator is None and wavelengths == [] and not _is_title(fields):
+            separator = next((name for mark, name in ((";", "semicolons"), (",", "commas"), ("\t", "tabs"))
+                              if mark in raw), "spaces")
         try:
             numbers = [float(f) for f in fields]
         except ValueError:
@@ -296,7 +303,8 @@ def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectru
         raise DataFileError(f"{what} {name}: needs at least two rows of 'wavelength value'")
     wl = np.asarray(wavelengths, dtype=float)
     val = np.asarray(values, dtype=float)
-    if wl[0] > wl[-1]:
+    descending = bool(wl[0] > wl[-1])
+    if descending:
         wl, val = wl[::-1].copy(), val[::-1].copy()
     check_wavelength_column(wl, f"{what} {name}")
     if wl[-1] < 50:
@@ -310,7 +318,19 @@ def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectru
         raise DataFileError(f"{what} {name}: all values are zero")
     wl.setflags(write=False)
     val.setflags(write=False)
-    return TabulatedSpectrum(wl, val, name)
+    how = (f"{separator or 'spaces'} between fields, decimal point; columns wavelength (nm), relative value "
+           f"(the scale does not matter); {wl.size} rows, {wl[0]:g}–{wl[-1]:g} nm"
+           + ("; a column-title line skipped" if header_seen else "")
+           + ("; rows given from long to short wavelengths, reversed" if descending else ""))
+    return TabulatedSpectrum(wl, val, name, how)
+
+
+def _is_title(fields) -> bool:
+    try:
+        [float(f) for f in fields]
+        return False
+    except ValueError:
+        return True
 
 
 # --------------------------------------------------------------------------------------------
@@ -369,7 +389,9 @@ def check_illuminant(illuminant) -> str:
         return illuminant.source
     kind, key = _illuminant_key(illuminant)
     if kind == "file":
-        _file_spectrum(key, _mtime(key))
+        from .notes import note_file
+
+        note_file(key, _file_spectrum(key, _mtime(key)).how_read)
         return key
     return illuminant_label(illuminant)
 
@@ -440,7 +462,11 @@ def illuminant_table(illuminant) -> TabulatedSpectrum:
         return illuminant
     kind, key = _illuminant_key(illuminant)
     if kind == "file":
-        return _file_spectrum(key, _mtime(key))
+        from .notes import note_file
+
+        table = _file_spectrum(key, _mtime(key))
+        note_file(key, table.how_read)
+        return table
     wl, values = _cie_table(key)
     return TabulatedSpectrum(wl, values, f"CIE illuminant {illuminant_label(illuminant)}")
 

@@ -97,6 +97,9 @@ class MeasuredSpectrum:
         What the reader inferred or skipped (unit guesses, skipped lines, averaged duplicates).
     sigma : numpy.ndarray or None
         Per-point standard uncertainty as a fraction, when the file has a third column.
+    how_read : str
+        How the file was read, in one line: separator, decimal mark, the unit and scale of each
+        column (and whether the header or the numbers said so), rows used and dropped.
     """
 
     wavelength_nm: np.ndarray
@@ -105,6 +108,7 @@ class MeasuredSpectrum:
     path: Path | None = None
     notes: tuple = ()
     sigma: np.ndarray | None = field(default=None)
+    how_read: str = ""
 
     def __len__(self) -> int:
         return int(self.wavelength_nm.size)
@@ -365,6 +369,8 @@ def read_spectrum(path, quantity: str | None = None) -> MeasuredSpectrum:
     wl, values = data[:, 0], data[:, 1]
     sigma = data[:, 2] if n_columns == 3 else None
 
+    wl_from = "header" if wl_unit is not None else "size"
+    scale_from = "header" if scale is not None else "size"
     if wl_unit is None:
         wl_unit = "um" if wl.max() < _MICROMETRE_LIMIT else "nm"
         notes.append(f"wavelengths read as {'µm' if wl_unit == 'um' else 'nm'} from their size "
@@ -399,6 +405,20 @@ def read_spectrum(path, quantity: str | None = None) -> MeasuredSpectrum:
     wl, values = wl[order], values[order]
     sigma = sigma[order] if sigma is not None else None
     unique, inverse, counts = np.unique(wl, return_inverse=True, return_counts=True)
+    separators = {",": "commas", ";": "semicolons", "\t": "tabs", None: "spaces"}
+    columns = [f"wavelength in {'µm' if wl_unit == 'um' else 'nm'} (from the {wl_from})",
+               f"{quantity} in {'percent' if scale == 'percent' else 'fractions'} (from the {scale_from})"]
+    if sigma is not None:
+        columns.append("its standard uncertainty, same scale")
+    how = (f"{separators.get(sep, repr(sep))} between fields, decimal {'comma' if decimal_comma else 'point'}; "
+           + (f"header on line {header_lineno}; " if header_lineno else "no header; ")
+           + f"columns: {', '.join(columns)}; {len(rows)} rows used"
+           + (f", lines {_line_list(bad)} dropped (not numbers, NaN or a wavelength <= 0)" if bad else "")
+           + (f"; {wl.size - unique.size} repeated wavelength(s) averaged" if unique.size < wl.size else "")
+           + ("; rows sorted by wavelength" if "rows sorted by wavelength" in notes else ""))
+    from .notes import note_file
+
+    note_file(path, how)
     if unique.size < wl.size:
         notes.append(f"{wl.size - unique.size} repeated wavelength(s) averaged")
         values = np.bincount(inverse, weights=values) / counts
@@ -408,6 +428,7 @@ def read_spectrum(path, quantity: str | None = None) -> MeasuredSpectrum:
     return MeasuredSpectrum(
         wavelength_nm=unique, values=np.asarray(values, float), quantity=quantity,
         path=path, notes=tuple(notes), sigma=None if sigma is None else np.asarray(sigma, float),
+        how_read=how,
     )
 
 

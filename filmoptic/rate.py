@@ -282,19 +282,31 @@ def parse_run(text: str, tooling_factor: float | None = None) -> Run:
     thickness and, from its interval, the uncertainty (a file with several solutions needs
     ``FILE.json#N`` to pick the N-th, see :func:`thickness_from_solve_file`).
 
+    DURATION is as :func:`filmoptic.units.parse_duration_s` reads it, a stopwatch time included
+    (``5:30:21.8nm`` is 5 min 30 s); a thickness may be in Å as a crystal monitor shows it.
+
     Examples
     --------
     >>> parse_run("5min:12.5nm").duration_s
     300.0
     >>> parse_run("90s:monitor=10nm", tooling_factor=1.2).thickness_nm
     12.0
+    >>> run = parse_run("5:30:218A")
+    >>> run.duration_s, run.thickness_nm
+    (330.0, 21.8)
     >>> parse_run("10min:21.8nm+-0.4nm").sigma_nm
     0.4
     """
     text = str(text).strip()
     if ":" not in text:
         raise FilmopticError(f"--run: expected DURATION:THICKNESS such as '5min:21.8nm', got {text!r}")
-    duration_text, thickness_text = (part.strip() for part in text.split(":", 1))
+    # Digits joined by colons before the last colon: a stopwatch time (checked by parse_duration_s).
+    clock = re.match(r"^(\d+(?::\d+(?:\.\d+)?)+)\s*:(?=.)", text)
+    if clock:
+        # A stopwatch time (5:30, 1:05:00) before the thickness: '5:30:21.8nm'.
+        duration_text, thickness_text = clock.group(1), text[clock.end():].strip()
+    else:
+        duration_text, thickness_text = (part.strip() for part in text.split(":", 1))
     duration = parse_duration_s(duration_text, what=f"--run {text!r}: duration")
     what = f"--run {text!r}: thickness"
     if thickness_text.lower().startswith("monitor="):

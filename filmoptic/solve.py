@@ -67,7 +67,7 @@ from .roots import (
     touching_roots,
     unique_points,
 )
-from .units import parse_number
+from .units import parse_number, parse_uncertainty_spec
 
 __all__ = [
     "ROOT_TOLERANCE",
@@ -410,27 +410,23 @@ def _spectra(stack, wl, t, angle_deg, reverse, extrapolate):
 
 
 def parse_uncertainty(text, value: float | None = None, what: str = "--uncertainty") -> float:
-    """An absolute uncertainty, or ``N%`` meaning N percent *of the value*.
+    """An absolute uncertainty from ``U`` (in the quantity's own unit), ``N%`` (N percent *of the
+    value*) or ``Npp`` (N percentage points, i.e. N/100 as an absolute fraction); see
+    :func:`filmoptic.units.parse_uncertainty_spec`.
 
     Examples
     --------
     >>> parse_uncertainty("0.01")
     0.01
-    >>> round(parse_uncertainty("2%", value=0.3), 6)
-    0.006
+    >>> round(parse_uncertainty("2%", value=0.3), 6), parse_uncertainty("2pp", value=0.3)
+    (0.006, 0.02)
     """
-    s = str(text).strip()
-    if s.endswith("%"):
-        relative = parse_number(s[:-1], what) / 100.0
-        if relative < 0:
-            raise FilmopticError(f"{what} must not be negative, got {text!r}")
+    amount, kind = parse_uncertainty_spec(text, what)
+    if kind == "relative":
         if value is None:
             raise FilmopticError(f"{what}: a percentage needs a value to take it of")
-        return relative * abs(value)
-    u = parse_number(s, what)
-    if u < 0:
-        raise FilmopticError(f"{what} must not be negative, got {text!r}")
-    return u
+        return amount * abs(value)
+    return amount
 
 
 def parse_lab(text) -> tuple:

@@ -8,12 +8,13 @@ A stack is written on one line, items in the order the light meets them, separat
     Ti ? / glass 4mm
 
 A layer is ``MATERIAL THICKNESS``. The thickness always carries a unit (``nm``, ``um``/``µm``,
-``mm``), or is ``?`` (an unknown) or ``LOW..HIGH nm`` (a bounded unknown). Layers in nm or µm
-are coherent; an item in mm is a thick slab whose internal reflections add in intensity. The
-last item is the substrate: without a thickness a half-space (only its front surface counts),
-with one in mm a thick slab with the ambient behind it. ``[ … ]xN`` repeats a group (nested
-groups allowed); an unknown inside a group is one unknown shared by every repetition, as the
-same recipe is run each time. Materials are read by :func:`filmoptic.materials.parse_material`.
+``mm``, or Ångström as ``A``/``Å``/``angstrom``), or is ``?`` (an unknown) or ``LOW..HIGH nm`` (a
+bounded unknown). Layers in nm or µm are coherent; an item in mm is a thick slab whose internal
+reflections add in intensity. The last item is the substrate: without a thickness a half-space
+(only its front surface counts), with one in mm a thick slab with the ambient behind it.
+``[ … ]xN`` repeats a group (nested groups allowed); an unknown inside a group is one unknown
+shared by every repetition, as the same recipe is run each time. Materials are read by
+:func:`filmoptic.materials.parse_material`.
 
 A metal layer may carry the oxide that air grows on it: ``METAL THICKNESS + OXIDE_THICKNESS
 oxide`` (or ``+ OXIDE_THICKNESS MATERIAL`` to name the oxide's constants)::
@@ -27,6 +28,25 @@ metal: the written thickness is the metal deposited, the metal left is that less
 ``oxide / ratio``, the Pilling–Bedworth ratio of :data:`filmoptic.materials.films.NATIVE_OXIDES`
 (1.29 for Al → Al2O3). A substrate may carry one too (``Al + 4nm oxide``: the oxide on bulk
 aluminium; nothing is consumed from a half-space or a slab).
+
+Quarter waves
+-------------
+A layer's thickness may be given as quarter-wave optical thicknesses (QWOT) at a design
+wavelength λ0: ``TiO2 1qw@550nm`` is one quarter wave, n(λ0)·d = λ0/4, so d = λ0/(4·n(λ0)) with
+n the real index of the layer's own material at λ0; ``SiO2 2.5qw@550nm`` is 2.5 of them. ``qwot``
+may be written for ``qw``. A stack may open with settings in braces that hold for all of it::
+
+    {550nm} MgF2 1qw / glass                               single-layer antireflection
+    {550nm H=TiO2 L=SiO2} [H / L]x4 / H / glass 1mm         a quarter-wave mirror
+    {600nm H=Ta2O5 L=SiO2} 2H / L / glass                  2H: two quarter waves (a half wave)
+
+The bare wavelength is the reference wavelength of every ``qw`` without its own ``@``, and of the
+shorthand letters. ``H=MATERIAL``, ``L=MATERIAL`` and ``M=MATERIAL`` name the materials of the
+trade's shorthand: an item ``H`` is one quarter wave of that material, ``2H`` or ``0.5L`` that
+many; the letter also stands for its material in an ordinary item (``H 50nm``). The resolved
+thickness is an ordinary number of nm in :attr:`Layer.thickness_nm`; :attr:`Layer.quarter_waves`
+remembers how it was written. Quarter waves are defined for layers that pass light: a material
+with k > n at λ0 (a metal) is refused.
 """
 
 from __future__ import annotations
@@ -38,13 +58,14 @@ from functools import cached_property
 
 from filmoptic.errors import FilmopticError, StackSyntaxError
 from filmoptic.params import Free, Parameter, is_free
-from filmoptic.units import LENGTH_UNITS_NM
+from filmoptic.units import LENGTH_UNIT_PATTERN, length_unit_nm
 
-__all__ = ["Layer", "Stack", "parse_stack", "MAX_REPEAT", "MAX_LAYERS"]
+__all__ = ["Layer", "Stack", "parse_stack", "quarter_wave_nm", "MAX_REPEAT", "MAX_LAYERS", "MAX_QUARTER_WAVES"]
 
 # '+ 2nm oxide', '+ 20Å Al2O3:ALD', '+ 1.5 nm n=1.65' at the end of an item.
 _OXIDE_RE = re.compile(
-    r"^(?P<base>.*?\S)\s+\+\s*(?P<number>\d+(?:\.\d*)?|\.\d+)\s*(?P<unit>nm|Å|A)\s+(?P<what>\S+)\s*$"
+    r"^(?P<base>.*?\S)\s+\+\s*(?P<number>\d+(?:\.\d*)?|\.\d+)\s*(?P<unit>nm|[Aa]ngstroms?|\u00c5|\u212b|A)"
+    r"\s+(?P<what>\S+)\s*$"
 )
 
 #: Largest repeat count of a group (more is a typo, not a coating).
@@ -53,7 +74,17 @@ MAX_REPEAT = 10_000
 MAX_LAYERS = 100_000
 
 _NUM = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
-_UNIT = r"nm|um|µm|μm|mm"
+_UNIT = LENGTH_UNIT_PATTERN
+#: Largest number of quarter waves in one layer (more is a typo, not a design).
+MAX_QUARTER_WAVES = 1000
+# "1qw", "2.5 qw@550nm", "1QWOT @ 0.55um": quarter waves at the end of an item.
+_QW_RE = re.compile(
+    rf"(?:^|\s)(?P<count>{_NUM})\s*(?:qwot|qw)(?:\s*@\s*(?P<wl>{_NUM})\s*(?P<unit>nm|um|µm|μm)?)?\s*$",
+    re.IGNORECASE,
+)
+# "H", "2H", "0.5 L": the shorthand for quarter waves of a named material.
+_SHORTHAND_RE = re.compile(rf"^(?P<count>{_NUM})?\s*(?P<letter>[HLM])$")
+_SHORTHAND_LETTERS = ("H", "L", "M")
 # The thickness at the end of an item, after white space: 55nm, 55 nm, ?, ?mm, 10..40nm, 55.
 _THICKNESS_RE = re.compile(
     rf"(?:^|\s)(?P<thickness>\?\s*(?:{_UNIT})?|{_NUM}\s*\.\.\s*{_NUM}\s*(?:{_UNIT})?|{_NUM}\s*(?:{_UNIT})?)\s*$"
@@ -85,6 +116,9 @@ class Layer:
         metal deposited.
     note : str
         For an oxide layer written with ``+ Xnm oxide``: what the notation expanded to.
+    quarter_waves : tuple or None
+        ``(count, wavelength_nm)`` when the thickness was written in quarter waves (``1qw@550nm``,
+        ``H``); ``thickness_nm`` is then ``count · λ0 / (4 n(λ0))``. None for a thickness in nm.
     """
 
     material: object
@@ -94,6 +128,7 @@ class Layer:
     item: int | None = None
     consumed_nm: float = 0.0
     note: str = ""
+    quarter_waves: tuple | None = None
 
     @property
     def label(self) -> str:
@@ -352,8 +387,14 @@ def parse_stack(text: str, ambient="air") -> Stack:
             "empty stack: write the layers and the substrate, e.g. 'TiO2 60nm / glass 3mm'"
         )
     ambient_material = _read_ambient(ambient, parse_material)
-    parser = _Parser(parse_material)
-    items = _split_items(text, "")
+    settings, body = _split_settings(text)
+    parser = _Parser(parse_material, *_read_settings(settings, parse_material))
+    if not body.strip():
+        raise StackSyntaxError(
+            f"the settings {{{settings}}} are followed by no stack: write the layers and the substrate "
+            "after them, e.g. '{550nm} MgF2 1qw / glass'"
+        )
+    items = _split_items(body, "")
     if items[-1][1].lstrip().startswith("["):
         raise StackSyntaxError(
             f"item {len(items)} {items[-1][1].strip()!r}: the last item must be the substrate, "
@@ -369,6 +410,113 @@ def parse_stack(text: str, ambient="air") -> Stack:
         oxide_layer, substrate = substrate
         layers.append(oxide_layer)
     return Stack(tuple(layers), substrate, ambient_material, ambient_material, " ".join(text.split()))
+
+
+def _split_settings(text: str):
+    """``"{550nm H=TiO2} rest"`` → ("550nm H=TiO2", " rest"); no braces → ("", text)."""
+    stripped = text.lstrip()
+    if not stripped.startswith("{"):
+        if "{" in text or "}" in text:
+            raise StackSyntaxError(
+                f"braces {{…}} hold the stack's settings and come first, e.g. "
+                f"'{{550nm H=TiO2 L=SiO2}} [H / L]x4 / glass'; got {text.strip()!r}"
+            )
+        return "", text
+    close = stripped.find("}")
+    if close < 0:
+        raise StackSyntaxError(f"missing '}}' after the stack's settings in {text.strip()!r}")
+    settings, body = stripped[1:close], stripped[close + 1:]
+    if "{" in settings or "{" in body or "}" in body:
+        raise StackSyntaxError(f"one pair of braces {{…}}, at the start, holds the settings; got {text.strip()!r}")
+    return settings, body
+
+
+def _setting_words(settings: str) -> list:
+    """Settings split at white space and commas outside parentheses (a mix(…) keeps its commas)."""
+    words = _top_level_words(settings, also=",")
+    # "H = TiO2" written with spaces: glue the pieces back together.
+    glued = []
+    for word in words:
+        if glued and (word.startswith("=") or glued[-1].endswith("=")):
+            glued[-1] += word
+        else:
+            glued.append(word)
+    return glued
+
+
+def _read_settings(settings: str, parse_material):
+    """(reference wavelength in nm or None, {letter: (text, material)}) from the braces."""
+    reference, letters = None, {}
+    for word in _setting_words(settings):
+        key, eq, value = word.partition("=")
+        if eq and key.strip().lower() in ("wl", "λ", "λ0", "lambda"):
+            word, eq = value, ""
+        if not eq:
+            if reference is not None:
+                raise StackSyntaxError(f"settings {{{settings}}}: give one reference wavelength, not two")
+            reference = _design_wavelength_nm(word, f"settings {{{settings}}}")
+            continue
+        letter = key.strip()
+        if letter not in _SHORTHAND_LETTERS:
+            raise StackSyntaxError(
+                f"settings {{{settings}}}: {word!r} is not a setting; write a reference wavelength "
+                "(550nm) and the shorthand materials H=…, L=… or M=… (e.g. {550nm H=TiO2 L=SiO2})"
+            )
+        if letter in letters:
+            raise StackSyntaxError(f"settings {{{settings}}}: {letter} is named twice")
+        if not value.strip():
+            raise StackSyntaxError(f"settings {{{settings}}}: {letter}= needs a material, e.g. {letter}=TiO2")
+        try:
+            material = parse_material(value.strip())
+        except FilmopticError as exc:
+            raise type(exc)(f"settings {{{settings}}}, {letter}: {exc}") from None
+        letters[letter] = (value.strip(), material)
+    if letters and reference is None:
+        raise StackSyntaxError(
+            f"settings {{{settings}}}: the shorthand {', '.join(letters)} stands for quarter waves; "
+            "add the reference wavelength, e.g. {550nm " + " ".join(f"{k}={v[0]}" for k, v in letters.items()) + "}"
+        )
+    return reference, letters
+
+
+def _design_wavelength_nm(text: str, where: str) -> float:
+    """A design wavelength: ``550nm``, ``0.55um`` or a bare number of nm."""
+    m = re.fullmatch(rf"\s*({_NUM})\s*(nm|um|µm|μm)?\s*", text)
+    if m is None:
+        raise StackSyntaxError(f"{where}: cannot read {text.strip()!r} as a wavelength; write e.g. 550nm")
+    value = float(m.group(1)) * (length_unit_nm(m.group(2)) if m.group(2) else 1.0)
+    if not (math.isfinite(value) and 0 < value <= 1e6):
+        raise StackSyntaxError(f"{where}: the wavelength must be positive (nm), got {text.strip()!r}")
+    return value
+
+
+def quarter_wave_nm(material, count: float, wavelength_nm: float) -> float:
+    """Physical thickness of ``count`` quarter waves of ``material`` at ``wavelength_nm``:
+    ``count · λ0 / (4 · n(λ0))`` with n the real part of the index.
+
+    Raises :class:`~filmoptic.errors.FilmopticError` for a material with k > n at λ0 (a metal has
+    no quarter-wave optical thickness worth the name), or with unknowns.
+
+    References
+    ----------
+    H. A. Macleod, *Thin-Film Optical Filters*, 4th ed., CRC Press (2010), §2.6 (quarter- and
+    half-wave layers, optical thickness n·d).
+
+    Examples
+    --------
+    >>> from filmoptic.materials import parse_material
+    >>> round(quarter_wave_nm(parse_material("n=1.38"), 1, 550.0), 6)
+    99.637681
+    """
+    import numpy as np
+
+    N = complex(np.asarray(material.nk(np.array([float(wavelength_nm)])))[0])
+    if N.imag > N.real:
+        raise FilmopticError(
+            f"{material} absorbs strongly at {wavelength_nm:g} nm (n = {N.real:.3g}, k = {N.imag:.3g}): "
+            "quarter waves are for layers that pass light; give its thickness in nm"
+        )
+    return float(count) * float(wavelength_nm) / (4.0 * N.real)
 
 
 def _read_ambient(ambient, parse_material):
@@ -459,9 +607,50 @@ def _group_parts(item: str, label: str):
 
 
 class _Parser:
-    def __init__(self, parse_material):
+    def __init__(self, parse_material, reference_nm=None, letters=None):
         self._parse_material = parse_material
         self._next_item = 0
+        self._reference_nm = reference_nm
+        self._letters = letters or {}
+
+    def _quarter_waves(self, label: str, text: str):
+        """A layer written in quarter waves (``TiO2 1qw@550nm``, ``2H``), or None."""
+        where = f"item {label} {text!r}"
+        short = _SHORTHAND_RE.match(text)
+        if short and short.group("letter") in self._letters:
+            count_text = short.group("count")
+            material = self._letters[short.group("letter")][1]
+            wavelength = self._reference_nm
+        else:
+            m = _QW_RE.search(text)
+            if m is None:
+                if short:
+                    raise StackSyntaxError(
+                        f"{where}: {short.group('letter')} is the shorthand for a quarter wave of a material "
+                        "named in the settings; open the stack with e.g. '{550nm H=TiO2 L=SiO2} '"
+                    )
+                return None
+            count_text = m.group("count")
+            material = self._material(label, text, text[: m.start()].strip())
+            if m.group("wl") is not None:
+                wavelength = _design_wavelength_nm(m.group("wl") + (m.group("unit") or ""), where)
+            elif self._reference_nm is not None:
+                wavelength = self._reference_nm
+            else:
+                raise StackSyntaxError(
+                    f"{where}: quarter waves at which wavelength? write e.g. '{text}@550nm', or open the "
+                    "stack with the reference wavelength, e.g. '{550nm} …'"
+                )
+        count = 1.0 if count_text is None else float(count_text)
+        if not (math.isfinite(count) and 0 < count <= MAX_QUARTER_WAVES):
+            raise StackSyntaxError(
+                f"{where}: the number of quarter waves must be above 0 and at most {MAX_QUARTER_WAVES}, got {count_text}"
+            )
+        try:
+            thickness = quarter_wave_nm(material, count, wavelength)
+        except FilmopticError as exc:
+            raise type(exc)(f"{where}: {exc}") from None
+        return Layer(material, thickness, False, text, self._new_item(), quarter_waves=(count, wavelength))
 
     def item(self, label: str, raw: str) -> list:
         """The layers of one item before the substrate (a group expands to its repeats)."""
@@ -469,6 +658,9 @@ class _Parser:
         oxide = _OXIDE_RE.match(_outside_brackets(text))
         if oxide:
             return self._with_oxide(label, text, oxide, substrate=False)
+        quarter = None if text.startswith("[") else self._quarter_waves(label, text)
+        if quarter is not None:
+            return [quarter]
         if text.startswith("["):
             inner, count = _group_parts(text, label)
             once = []
@@ -492,6 +684,11 @@ class _Parser:
     def substrate(self, label: str, raw: str):
         """The substrate Layer, or (oxide layer, substrate Layer) for ``… + Xnm oxide``."""
         text = raw.strip()
+        if _QW_RE.search(text) or (_SHORTHAND_RE.match(text) and _SHORTHAND_RE.match(text).group("count")):
+            raise StackSyntaxError(
+                f"item {label} {text!r}: the last item is the substrate, a half-space or a slab in mm, "
+                "not quarter waves; add the substrate after a ' / ', e.g. '… / glass'"
+            )
         oxide = _OXIDE_RE.match(_outside_brackets(text))
         if oxide:
             return self._with_oxide(label, text, oxide, substrate=True)
@@ -522,7 +719,7 @@ class _Parser:
 
         where = f"item {label} {text!r}"
         base = text[: match.end("base")].strip()
-        oxide_nm = float(match.group("number")) * (0.1 if match.group("unit") in ("Å", "A") else 1.0)
+        oxide_nm = float(match.group("number")) * length_unit_nm(match.group("unit"))
         if oxide_nm <= 0:
             raise StackSyntaxError(f"{where}: the oxide needs a positive thickness, e.g. '+ 2nm oxide'")
         if oxide_nm > 1000:
@@ -577,6 +774,8 @@ class _Parser:
     def _material(self, label: str, item: str, text: str):
         if not text:
             raise StackSyntaxError(f"item {label} {item!r}: no material before the thickness")
+        if text in self._letters:
+            return self._letters[text][1]
         try:
             return self._parse_material(text)
         except FilmopticError as exc:
@@ -590,10 +789,12 @@ class _Parser:
         m = _THICKNESS_RE.search(item)
         if m is None:
             words = _top_level_words(item)
+            if len(words) > 1 and _is_common_name(item):
+                return self._material(label, item, item), None, False
             if len(words) > 1:
                 hint = _thickness_hint(item) or (
                     f"cannot read {words[-1]!r} as a thickness; write e.g. '55nm', '1.2um', "
-                    "'3mm', '?' or '10..90nm'"
+                    "'550A', '3mm', '?', '10..90nm' or '1qw@550nm'"
                 )
                 raise StackSyntaxError(f"item {label} {item!r}: {hint}")
             return self._material(label, item, item), None, False
@@ -630,10 +831,16 @@ def _oxide_note(text, oxide_layer, metal_layer, native) -> str:
             f"{consumed:.3g} nm of {name}; Pilling–Bedworth ratio {native.ratio:.3g})")
 
 
+def _is_common_name(text: str) -> bool:
+    """Whether ``text`` is a common material name written with spaces (``float glass``)."""
+    from filmoptic.materials.common_names import common_name
+
+    return common_name(text) is not None
+
+
 # Units people write that the notation does not take, with their size in mm or nm.
-_FOREIGN_UNITS = {"cm": (10.0, "mm"), "m": (1000.0, "mm"), "dm": (100.0, "mm"),
-                  "Å": (0.1, "nm"), "A": (0.1, "nm"), "angstrom": (0.1, "nm"), "pm": (0.001, "nm")}
-_FOREIGN_UNIT_RE = re.compile(rf"(?:^|\s)(?P<number>{_NUM})\s*(?P<unit>cm|dm|m|Å|A|angstroms?|pm)$")
+_FOREIGN_UNITS = {"cm": (10.0, "mm"), "m": (1000.0, "mm"), "dm": (100.0, "mm"), "pm": (0.001, "nm")}
+_FOREIGN_UNIT_RE = re.compile(rf"(?:^|\s)(?P<number>{_NUM})\s*(?P<unit>cm|dm|m|pm)$")
 # A decimal comma in a thickness: '12,5nm', '12,5 nm', '1,2um'.
 _DECIMAL_COMMA_RE = re.compile(rf"(?:^|\s)(?P<whole>\d+),(?P<fraction>\d+)\s*(?P<unit>{_UNIT})?(?=\s|$)")
 
@@ -652,11 +859,10 @@ def _thickness_hint(item: str) -> str:
     m = _FOREIGN_UNIT_RE.search(text)
     if m:
         unit = m.group("unit")
-        unit = "angstrom" if unit.startswith("angstrom") else unit
         factor, target = _FOREIGN_UNITS[unit]
         value = float(m.group("number")) * factor
         slab = " (a thick slab)" if target == "mm" else ""
-        return (f"{m.group('unit')!r} is not a unit here (nm, um or mm); "
+        return (f"{m.group('unit')!r} is not a unit here (nm, um, mm or Å); "
                 f"{m.group('number')}{m.group('unit')} is '{value:.12g}{target}'{slab}")
     return ""
 
@@ -694,14 +900,15 @@ def _outside_brackets(item: str) -> str:
     return "".join(out)
 
 
-def _top_level_words(item: str) -> list:
+def _top_level_words(item: str, also: str = "") -> list:
+    """Words split at white space (and the characters in ``also``) outside brackets."""
     words, depth, current = [], 0, []
     for ch in item:
         if ch in "([":
             depth += 1
         elif ch in ")]":
             depth -= 1
-        if ch.isspace() and depth == 0:
+        if (ch.isspace() or ch in also) and depth == 0:
             if current:
                 words.append("".join(current))
                 current = []
@@ -718,7 +925,7 @@ def _read_thickness(label: str, item: str, text: str):
     unit = unit_match.group(1) if unit_match else None
     body = text[: unit_match.start()].strip() if unit_match else text.strip()
     thick = unit == "mm"
-    scale = LENGTH_UNITS_NM[unit] if unit else 1.0
+    scale = length_unit_nm(unit) if unit else 1.0
     where = f"item {label} {item!r}"
     if body == "?":
         return Free(), thick

@@ -312,7 +312,7 @@ def test_no_arguments_shows_the_overview_not_an_error_line(run_cli):
     assert "\n  spectrum" in result.stdout  # a readable command list, one per line
 
 
-@pytest.mark.parametrize("typo, meant", [("spectrm", "spectrum"), ("colour", "color"), ("materail", "materials")])
+@pytest.mark.parametrize("typo, meant", [("spectrm", "spectrum"), ("colr", "color"), ("materail", "materials")])
 def test_a_misspelt_command_gets_a_suggestion(run_cli, typo, meant):
     assert_user_error(run_cli([typo, STACK]), f"did you mean '{meant}'")
 

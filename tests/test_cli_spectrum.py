@@ -79,11 +79,13 @@ def test_csv_is_written_whole_with_a_header(run_cli, tmp_path):
     result = run_cli(["spectrum", "TiO2 60nm / glass", "--wl", "400:420:10", "--csv", out])
     assert result.exit_code == 0, result.stderr
     lines = out.read_text(encoding="utf-8").splitlines()
-    assert lines[0] == "wavelength_nm,R,T,A,A_layers,A_substrate"
+    assert lines[0] == "wavelength_nm,R,T,A,A_layers,A_substrate,OD"
     rows = np.array([[float(x) for x in line.split(",")] for line in lines[1:]])
-    assert rows.shape == (3, 6)
+    assert rows.shape == (3, 7)
     np.testing.assert_allclose(rows[:, 1:4].sum(axis=1), 1.0, atol=1e-10)
     np.testing.assert_allclose(rows[:, 4] + rows[:, 5], rows[:, 3], atol=1e-10)
+    # OD = -log10 T (definition of optical density, common practice), to the digits written.
+    np.testing.assert_allclose(rows[:, 6], -np.log10(rows[:, 2]), rtol=1e-10)
     assert [p.name for p in tmp_path.iterdir()] == ["spectrum.csv"]   # no temporary left behind
 
 

@@ -62,6 +62,11 @@ MODULES = [
     "filmoptic.design.refine",
     "filmoptic.design.designer",
     "filmoptic.design.tolerance",
+    "filmoptic.plots.solve",
+    "filmoptic.notes",
+    "filmoptic.materials.common_names",
+    "filmoptic.cli.spectrum",
+    "filmoptic.cli.sweep",
 ]
 
 

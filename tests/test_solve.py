@@ -81,10 +81,10 @@ def test_grid_step_resolves_a_quarter_wave():
 
 
 def test_reading_forms():
-    assert parse_reading("318/1045") == pytest.approx(318 / 1045)
-    assert round(parse_reading("318/1045"), 4) == 0.3043
-    assert parse_reading("30.4%") == pytest.approx(0.304)
-    assert parse_reading("0.5") == 0.5
+    assert parse_reading("318/1045").ratio == pytest.approx(318 / 1045)
+    assert round(parse_reading("318/1045").ratio, 4) == 0.3043
+    assert parse_reading("30.4%").ratio == pytest.approx(0.304)
+    assert parse_reading("0.5").ratio == 0.5
     for bad in ("1.2", "-0.1", "1045/318", "x", "3/0", "1/2/3"):
         with pytest.raises(FilmopticError):
             parse_reading(bad)
@@ -557,7 +557,7 @@ def test_cli_unmet_dark_target_is_one_line_without_caution(run_cli):
     [
         (["--reading", "0.3", "--source", "laser:"], ("laser:WL", "laser:633")),
         (["--reading", "0.3", "--source", "laser:red"], ("laser:WL",)),
-        (["--reading", "0.3", "--source", "led:530"], ("led:CENTRE/FWHM", "led:530/30")),
+        (["--reading", "0.3", "--source", "led:530/wide"], ("led:CENTRE/FWHM", "led:530/30")),
         (["--reading", "0.3", "--source", "LED"], ("led:CENTRE/FWHM",)),
         (["--reading", "0.3", "--detector", "eye"], ("photopic", "flat", "response file")),
         (["--reading", "0.3", "--detector", "photopc"], ("did you mean photopic",)),

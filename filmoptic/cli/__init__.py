@@ -21,6 +21,7 @@ __all__ = ["cli", "main"]
 COMMANDS = {
     "spectrum": ("filmoptic.cli.spectrum", "spectrum", "Reflectance, transmittance and absorptance of a stack."),
     "color": ("filmoptic.cli.color", "color", "Colour and luminous values seen in reflection and transmission."),
+    "colour": ("filmoptic.cli.color", "color", "The same as color."),
     "sweep": ("filmoptic.cli.sweep", "sweep", "Colour and luminous values over a range of one layer's thickness."),
     "solve": ("filmoptic.cli.solve", "solve", "Find the thickness that meets a target or explains a reading."),
     "compare": ("filmoptic.cli.compare", "compare", "Compare candidate materials for the same target."),
@@ -205,10 +206,17 @@ def main(argv=None) -> int:
     single line on stderr and exit code 2, never a traceback. Set ``FILMOPTIC_DEBUG=1`` to see the
     traceback of an unexpected error.
     """
+    from filmoptic.notes import collecting
+
     args = sys.argv[1:] if argv is None else list(argv)
-    with warnings.catch_warnings():
+    with warnings.catch_warnings(), collecting() as notes:
         warnings.showwarning = _show_warning
-        return _run(args)
+        code = _run(args)
+    if code == 0:
+        # How files were read and which defaults were taken: after the output, on stderr.
+        for kind, line in notes:
+            click.echo(f"filmoptic: {kind}: {line}", err=True)
+    return code
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:

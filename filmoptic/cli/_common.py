@@ -37,6 +37,7 @@ __all__ = [
     "transmission_note",
     "echo_surface_oxides",
     "warn_thin_metal",
+    "PolarizationType",
 ]
 
 
@@ -59,39 +60,44 @@ ambient_option = click.option(
 
 
 class AngleType(click.ParamType):
-    """An angle of incidence in degrees, 0 to under 90; ``45``, ``45°`` and ``45deg`` all read."""
+    """An angle of incidence in degrees, 0 to under 90; ``45``, ``45°``, ``45deg`` and ``0.785rad``
+    all read (a bare small number is degrees, with a warning; see
+    :func:`filmoptic.units.parse_angle_deg`)."""
 
     name = "DEG"
 
     def convert(self, value, param, ctx):
         if isinstance(value, (int, float)):
             return float(value)
-        import re
+        from filmoptic.units import parse_angle_deg
 
-        from filmoptic.units import parse_number
-
-        text = re.sub(r"\s*(°|deg|degrees?)$", "", str(value).strip(), flags=re.IGNORECASE)
         what = f"--{param.name}" if param else "angle"
         try:
-            angle = parse_number(text, what)
+            return parse_angle_deg(value, what)
         except FilmopticError as exc:
-            raise click.UsageError(f"{exc} (degrees from the normal, e.g. 45)") from None
-        if not 0 <= angle < 90:
-            raise click.UsageError(
-                f"{what}: the angle of incidence must lie in 0 to under 90 degrees from the normal, "
-                f"got {value}"
-            )
-        return angle
+            raise click.UsageError(f"{exc} (degrees from the normal, e.g. 45, or radians written 0.785rad)") from None
 
 
 angle_option = click.option(
     "--angle", type=AngleType(), default=0.0, show_default=True, metavar="DEG",
-    help="Angle of incidence in the ambient, degrees from the normal (0 to under 90).",
+    help="Angle of incidence in the ambient, degrees from the normal (0 to under 90); radians only "
+         "when written so (0.785rad).",
 )
 extrapolate_option = click.option(
     "--extrapolate", is_flag=True,
     help="Allow wavelengths outside a table's range by holding its end values (with a warning).",
 )
+
+
+class PolarizationType(click.Choice):
+    """s, p or unpolarized; both English spellings (unpolarised) and any case."""
+
+    def __init__(self):
+        super().__init__(["s", "p", "unpolarized", "unpolarised"], case_sensitive=False)
+
+    def convert(self, value, param, ctx):
+        chosen = super().convert(value, param, ctx)
+        return "unpolarized" if str(chosen).lower().startswith("unpolari") else str(chosen).lower()
 
 
 class WavelengthsType(click.ParamType):

@@ -15,7 +15,14 @@ from filmoptic.cli._common import (
     print_table,
     user_errors,
 )
-from filmoptic.cli.solve import EYE_CAUTION, build_conditions, condition_json, condition_options, needs_eye_caution
+from filmoptic.cli.solve import (
+    EYE_CAUTION,
+    build_conditions,
+    condition_json,
+    condition_options,
+    needs_eye_caution,
+    warn_if_half_space,
+)
 
 
 def _warn_thin_metals(table, ambient) -> None:
@@ -89,6 +96,10 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
         from filmoptic.errors import TargetError
 
         raise TargetError("no candidate meets the target: " + "; ".join(c.note for c in table.candidates))
+    with user_errors():
+        from filmoptic.stack import parse_stack
+
+        warn_if_half_space(parse_stack(substrate, ambient=ambient), conditions)
     if needs_eye_caution(conditions, solved):
         echo_caution(EYE_CAUTION)
     _warn_thin_metals(table, ambient)

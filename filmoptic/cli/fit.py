@@ -10,6 +10,7 @@ import click
 
 from filmoptic.cli._common import (
     FractionType,
+    PolarizationType,
     ambient_option,
     angle_option,
     check_plot_path,
@@ -71,7 +72,7 @@ def _json_payload(result, spectra):
         "notes": list(result.notes),
         "measured": [
             {"path": str(s.path) if s.path else None, "quantity": s.quantity, "n_points": len(s),
-             "notes": list(s.notes)}
+             "notes": list(s.notes), "read_as": s.how_read}
             for s in spectra
         ],
         "fitted": [
@@ -115,9 +116,9 @@ def _refuse_repeated_files(files) -> None:
 )
 @angle_option
 @click.option(
-    "--polarization", "--pol", "polarization",
-    type=click.Choice(["unpolarized", "s", "p"], case_sensitive=False), default="unpolarized",
-    show_default=True, help="Polarisation of the measuring beam.",
+    "--polarization", "--polarisation", "--pol", "polarization",
+    type=PolarizationType(), default="unpolarized",
+    show_default=True, help="Polarisation of the measuring beam: s, p or unpolarized (also unpolarised).",
 )
 @ambient_option
 @click.option(

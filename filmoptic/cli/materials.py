@@ -40,7 +40,9 @@ def materials(name, kind, use, wl, plot_path, plot_range, as_json):
     work (colours need data over 380–780 nm; 'no' marks a dataset that stops short) and the
     publication the data come from. --for visible lists only the datasets that can. Materials
     that were looked for and not found as citable visible-range data (copper oxides, Cr2O3,
-    ZrN) are named at the end, with what that means for the colours that need them.
+    ZrN) are named at the end, with what that means for the colours that need them, followed by
+    the common names a stack accepts for library names (copper for Cu, float glass for glass,
+    quartz for fused silica …).
 
     With NAME, every dataset of that material is shown with its full citation, the kind of
     sample that was measured, the wavelength range, the licence and n and k at a few
@@ -100,12 +102,33 @@ def _list(kind, use, as_json):
         click.echo("Not in the library as visible-range data (looked for, none citable found):")
         for key, note in GAPS.items():
             click.echo(f"  {_GAP_NAMES.get(key, key)}: {note}")
+        _common_names_table()
     folders = library_folders()
     if len(folders) > 1:
         click.echo(f"Your tables from {ENV_VAR}={folders[1][0]} are included.")
     for info in infos:
         if info.overrides:
             click.echo(f"Note: {info.label} from {info.path} replaces the shipped dataset of that name.")
+
+
+def _common_names_table() -> None:
+    """The common names a stack accepts for library names, grouped by library name, wrapped."""
+    import textwrap
+
+    from filmoptic.materials.common_names import COMMON_NAMES
+
+    grouped, notes = {}, []
+    for common, (notation, note) in COMMON_NAMES.items():
+        grouped.setdefault(notation, []).append(common)
+        if note:
+            notes.append(f"{common}: {note}")
+    pairs = ", ".join(f"{'/'.join(names)} = {notation}" for notation, names in grouped.items())
+    click.echo("")
+    click.echo("Common names, accepted in stacks and here (e.g. 'copper 12nm / float glass 4mm'):")
+    click.echo(textwrap.fill(pairs, width=100, initial_indent="  ", subsequent_indent="  ",
+                             break_on_hyphens=False))
+    for line in notes:
+        click.echo(f"  {line}")
 
 
 # How the gap table's keys are written for people.
@@ -154,9 +177,11 @@ def _selected(name):
     from filmoptic.materials import find_dataset, get_material, list_materials, parse_material
     from filmoptic.materials.expression import _NAME_RE
 
+    from filmoptic.materials.common_names import common_name
+
     text = name.strip()
     # "file:PATH" also matches NAME:DATASET's pattern; it is a user's table, not a library name.
-    if _NAME_RE.match(text) and text[:5].lower() != "file:":
+    if (_NAME_RE.match(text) or common_name(text.partition(":")[0])) and text[:5].lower() != "file:":
         base, _, dataset = text.partition(":")
         if dataset.strip():
             info = find_dataset(base, dataset)

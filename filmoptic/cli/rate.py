@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from filmoptic.cli._common import emit_json, json_option, print_table, user_errors
+from filmoptic.cli._common import emit_json, json_option, print_table, to_jsonable, user_errors
 
 
 #: Below this χ² probability the runs are said to scatter more than their uncertainties allow
@@ -24,15 +24,16 @@ def _pm(sigma, fmt: str) -> str:
 @click.command()
 @click.option(
     "--run", "runs", multiple=True, required=True, metavar="DURATION:THICKNESS",
-    help="A calibration run (repeatable): its deposition time (300s, 5min, 1h, 1h30min) and the "
-         "thickness it gave: a length (21.8nm), with its standard uncertainty when known "
+    help="A calibration run (repeatable): its deposition time (300s, 5min, 5min30s, 1h 5min, or a "
+         "stopwatch time 5:30) and the thickness it gave: a length (21.8nm, or 218A in Å as a crystal "
+         "monitor shows it), with its standard uncertainty when known "
          "(21.8nm+-0.4nm, 21.8nm±0.4nm or 21.8nm+-2%); 'monitor=LENGTH' for a crystal-monitor "
          "reading (needs --tooling; the same +- accepted); or a 'filmoptic solve --json' output file "
          "(its solution's thickness_nm, with half the low_nm..high_nm interval as the "
          "uncertainty; when the file lists several solutions, FILE.json#N takes the N-th, as "
          "numbered in the solve table). Give an uncertainty for every run or for none.",
 )
-@click.option("--target", metavar="THICKNESS", help="Thickness wanted from the next run, e.g. 15nm.")
+@click.option("--target", metavar="THICKNESS", help="Thickness wanted from the next run, e.g. 15nm or 150A.")
 @click.option(
     "--tooling", type=float, metavar="FACTOR",
     help="Crystal-monitor tooling factor: measured ÷ indicated thickness. Converts monitor=… runs "
@@ -53,7 +54,7 @@ def rate(runs, target, tooling, through_origin, as_json):
 
     where the offset (usually negative) is what the start-up of the source costs; its dead time is
     -offset/rate. Two or more runs fit both by least squares; one run fixes the rate through the
-    origin.
+    origin. The rate is given in nm/s and in Å/s, as crystal monitors show it.
 
     Uncertainties are one standard deviation. When every run's thickness carries one (written
     21.8nm+-0.4nm, or from a solve file made with --uncertainty), the fit is weighted by 1/σ² and
@@ -87,7 +88,10 @@ def rate(runs, target, tooling, through_origin, as_json):
         fit = fit_rate(parsed, target_nm=target_nm, tooling_factor=tooling, through_origin=through_origin)
 
     if as_json:
-        emit_json(fit)
+        # Å and Å/s beside nm and nm/s: crystal monitors show Å.
+        emit_json({**to_jsonable(fit), "rate_angstrom_per_s": 10.0 * fit.rate_nm_per_s,
+                   "rate_sigma_angstrom_per_s": None if fit.rate_sigma_nm_per_s is None
+                   else 10.0 * fit.rate_sigma_nm_per_s})
         return
     rows = [
         [r.source, f"{r.duration_s:g}", f"{r.thickness_nm:.2f}{_pm(r.sigma_nm, '.2f')}",
@@ -96,8 +100,10 @@ def rate(runs, target, tooling, through_origin, as_json):
     ]
     print_table(["run thickness", "time (s)", "thickness (nm)", "fitted (nm)"], rows, title="Calibration runs")
     click.echo("")
+    angstrom_sigma = None if fit.rate_sigma_nm_per_s is None else 10 * fit.rate_sigma_nm_per_s
     click.echo(
         f"Rate:    {fit.rate_nm_per_s:.4g}{_pm(fit.rate_sigma_nm_per_s, '.2g')} nm/s "
+        f"= {10 * fit.rate_nm_per_s:.4g}{_pm(angstrom_sigma, '.2g')} Å/s "
         f"({fit.rate_nm_per_s * 60:.4g} nm/min)"
     )
     if fit.through_origin:
@@ -123,4 +129,5 @@ def rate(runs, target, tooling, through_origin, as_json):
             f"{_pm(fit.time_sigma_s, '.2g')}{' s' if fit.time_sigma_s is not None else ''}"
         )
         if fit.monitor_endpoint_nm is not None:
-            click.echo(f"Crystal monitor end point: {fit.monitor_endpoint_nm:.2f} nm indicated")
+            click.echo(f"Crystal monitor end point: {fit.monitor_endpoint_nm:.2f} nm "
+                       f"({10 * fit.monitor_endpoint_nm:.1f} Å) indicated")

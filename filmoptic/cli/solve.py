@@ -17,12 +17,14 @@ from filmoptic.cli.anodize import law_from_options, law_options, volts_from_opti
 from filmoptic.cli._common import (
     ambient_option,
     angle_option,
+    check_plot_path,
     echo_caution,
     emit_json,
     extrapolate_option,
     json_option,
     percent,
     print_table,
+    save_plot,
     to_jsonable,
     user_errors,
     write_atomically,
@@ -61,18 +63,26 @@ _CONDITION_OPTIONS = [
                  help="Illuminant for luminous values and colours (D65, A, F11, … or a spectrum file)."),
     click.option("--reading", metavar="VALUE",
                  help="A measured transmittance reading: a fraction (0.304), a percentage (30.4%) or the "
-                      "two raw readings SAMPLE/REFERENCE (318/1045)."),
+                      "raw numbers off the meter, SAMPLE/REFERENCE or SAMPLE/REFERENCE/DARK, with or without "
+                      "a unit on every number (318/1045, 318lx/1045lx, 2.3V/7.1V/0.02V, 12.1uA/40.2uA; V, mV, "
+                      "uA, nA, lx, W, mW, counts). Numbers with different units are refused."),
+    click.option("--dark", metavar="VALUE",
+                 help="The meter's reading with the light blocked (e.g. 0.02V), subtracted from sample and "
+                      "reference: (S - D)/(R - D). Or give it as the third number of --reading."),
     click.option("--source", default="D65", show_default=True, metavar="LIGHT",
                  help="Light of the reading: an illuminant (A for a halogen lamp, D65, …), laser:WL for a "
-                      "laser line, led:WL/FWHM for an LED (Gaussian), or a two-column spectrum file."),
+                      "laser line, led:WL/FWHM for an LED (Gaussian; led:WL alone takes a 25 nm width and "
+                      "says so), or a two-column spectrum file."),
     click.option("--detector", default="photopic", show_default=True, metavar="SENSOR",
-                 help="photopic (a lux meter), flat (a power meter or thermal sensor) or a two-column "
-                      "response file."),
+                 help="photopic (a lux meter), flat (a power meter or thermal sensor), silicon (a silicon "
+                      "photodiode, typical published response; also 'si') or a two-column response file."),
     click.option("--reference", type=click.Choice(["open", "bare"]), default="open", show_default=True,
                  help="The reading is relative to the open beam, or to an uncoated piece of the same substrate."),
     click.option("--uncertainty", metavar="U",
-                 help="Uncertainty of every condition, in its own unit (a fraction for values, ΔE00 for "
-                      "colours), or N% of the value. Turns each solution into an interval."),
+                 help="Uncertainty of every condition: N% is N percent of the value (2% of a 30 % reading "
+                      "is ±0.6 points), Npp is N percentage points (2pp is ±2 points), a bare number is in "
+                      "the condition's own unit (a fraction, 0.02; ΔE00 for colours). Turns each solution "
+                      "into an interval; the output says which kind it was."),
 ]
 
 
@@ -107,6 +117,71 @@ def _given(name: str, differs_from_default: bool) -> bool:
     return source not in (ParameterSource.DEFAULT, ParameterSource.DEFAULT_MAP)
 
 
+#: How each kind of --uncertainty is said in the output.
+UNCERTAINTY_KINDS = {"relative": "of the value", "points": "percentage points", "absolute": "absolute"}
+
+
+def uncertainty_spec(u_text, colour: bool = False):
+    """``--uncertainty`` as ``(amount, kind)`` (see :func:`filmoptic.units.parse_uncertainty_spec`),
+    or None; a bare number above 1 for a fraction and a percentage for a colour are refused."""
+    from filmoptic.errors import FilmopticError
+    from filmoptic.units import parse_uncertainty_spec
+
+    if u_text is None:
+        return None
+    amount, kind = parse_uncertainty_spec(u_text)
+    if colour and kind != "absolute":
+        raise FilmopticError("--uncertainty for a colour is a ΔE00 value, not a percentage")
+    if not colour and kind == "absolute" and amount > 1:
+        shown = str(u_text).strip()
+        raise FilmopticError(
+            f"--uncertainty {shown}: a transmittance or reflectance is a fraction 0–1, so {shown} would be "
+            f"±{100 * amount:g} %; did you mean {shown}% ({shown} percent of the value) or {shown}pp "
+            f"({shown} percentage points)?"
+        )
+    return amount, kind
+
+
+def describe_uncertainty(u_text) -> str:
+    """``2%`` → "2 % of the value"; ``2pp`` → "2 percentage points"; ``0.01`` → "0.01 (absolute)"."""
+    from filmoptic.units import parse_uncertainty_spec
+
+    amount, kind = parse_uncertainty_spec(u_text)
+    if kind == "relative":
+        return f"{100 * amount:g} % of the value"
+    if kind == "points":
+        return f"{100 * amount:g} percentage points"
+    return f"{amount:g} (absolute)"
+
+
+def _reading_condition(opts):
+    """The Reading condition (and the meter reading behind it) from the shared options."""
+    from filmoptic.notes import note, warn
+    from filmoptic.readings import band_weights, parse_reading, resolve_source
+    from filmoptic.solve import Reading
+
+    source, default_note = resolve_source(opts.get("source", "D65"))
+    detector = opts.get("detector", "photopic")
+    # Validate the source and detector now so that a typo is reported before any work.
+    band_weights(source, detector)
+    if default_note:
+        note(default_note)
+    meter = None
+    if opts.get("reading") is not None:
+        meter = parse_reading(opts["reading"], dark=opts.get("dark"))
+        _check_unit_and_detector(meter.unit, detector, warn)
+    value = 0.0 if meter is None else meter.ratio
+    return Reading(value, source, detector, opts.get("reference", "open"), 0.0), meter
+
+
+def _check_unit_and_detector(unit, detector, warn) -> None:
+    """Lux comes from a lux meter, whose detector is photopic: say so when another is modelled."""
+    if unit == "lx" and str(detector).strip().lower() != "photopic":
+        warn(f"the readings are in lux, which a lux meter (a photopic detector) gives, but --detector "
+             f"{detector} models another sensor; use --detector photopic unless the meter reads lux "
+             "through another response")
+
+
 def build_conditions(opts: dict, need_value: bool = True) -> list:
     """Turn the shared options into Target/ColourTarget/Reading conditions (in a fixed order).
 
@@ -114,18 +189,17 @@ def build_conditions(opts: dict, need_value: bool = True) -> list:
     column of readings, whose values come from a file).
     """
     from filmoptic.errors import FilmopticError
-    from filmoptic.readings import band_weights, parse_reading
-    from filmoptic.solve import ColourTarget, Reading, Target, lab_from_hex, parse_lab, parse_uncertainty
+    from filmoptic.solve import ColourTarget, Target, lab_from_hex, parse_lab
     from filmoptic.units import parse_fraction
 
     u_text = opts.get("uncertainty")
 
     def unc(value, colour=False):
-        if u_text is None:
+        spec = uncertainty_spec(u_text, colour)
+        if spec is None:
             return 0.0
-        if colour and str(u_text).strip().endswith("%"):
-            raise FilmopticError("--uncertainty for a colour is a ΔE00 value, not a percentage")
-        return parse_uncertainty(u_text, value)
+        amount, kind = spec
+        return amount * abs(value) if kind == "relative" else amount
 
     side, illuminant = opts.get("side", "front"), opts.get("illuminant", "D65")
     conditions = []
@@ -153,7 +227,7 @@ def build_conditions(opts: dict, need_value: bool = True) -> list:
         conditions.append(ColourTarget(lab_from_hex(text, illuminant), appearance, side, unc(None, True),
                                        illuminant, text))
     reading_options = [f"--{name}" for name, default in (("source", "D65"), ("detector", "photopic"),
-                                                          ("reference", "open"))
+                                                          ("reference", "open"), ("dark", None))
                        if _given(name, opts.get(name, default) != default)]
     if opts.get("reading") is None and need_value and reading_options:
         one = len(reading_options) == 1
@@ -163,16 +237,47 @@ def build_conditions(opts: dict, need_value: bool = True) -> list:
             f"{'it' if one else 'them'}"
         )
     if opts.get("reading") is not None or not need_value:
-        # Validate the source and detector now so that a typo is reported before any work.
-        band_weights(opts.get("source", "D65"), opts.get("detector", "photopic"))
-        v = parse_reading(opts["reading"]) if opts.get("reading") is not None else 0.0
-        conditions.append(Reading(v, opts.get("source", "D65"), opts.get("detector", "photopic"),
-                                  opts.get("reference", "open"), unc(v)))
+        reading, _ = _reading_condition(opts)
+        conditions.append(reading.with_value(reading.value, unc(reading.value)))
     if not conditions:
         raise FilmopticError(
             "say what to solve for: --luminous-T, --luminous-R, --T-at, --R-at, --lab, --hex or --reading"
         )
     return conditions
+
+
+def meter_reading(opts: dict):
+    """The --reading as it came off the meter (sample, reference, dark, unit), or None."""
+    from filmoptic.readings import parse_reading
+
+    if opts.get("reading") is None:
+        return None
+    return parse_reading(opts["reading"], dark=opts.get("dark"))
+
+
+#: A condition that looks at the light through the substrate (its T), by quantity or appearance.
+def _looks_through(condition) -> bool:
+    return (getattr(condition, "quantity", "").endswith("T") or getattr(condition, "appearance", "") == "transmitted"
+            or type(condition).__name__ == "Reading")
+
+
+def warn_if_half_space(stack, conditions) -> None:
+    """Say once when a transmittance is solved through a transparent half-space substrate: the
+    back surface of a real pane is then left out, which changes the answer."""
+    from filmoptic.errors import FilmopticError
+    from filmoptic.notes import warn
+
+    substrate = stack.substrate
+    if substrate.thickness_nm is not None or not any(_looks_through(c) for c in conditions):
+        return
+    try:
+        if not stack.substrate_passes_light([400.0, 550.0, 700.0]):
+            return
+    except FilmopticError:
+        return
+    warn(f"the substrate '{substrate.text}' has no thickness, so it is a half-space: T is the light that enters "
+         "it, and a real pane's back surface (which reflects some of it again) is left out, which changes the "
+         f"answer; write the pane's thickness, e.g. '{substrate.text} 4mm', for the light that comes out behind it")
 
 
 def condition_json(condition) -> dict:
@@ -216,16 +321,27 @@ def _volts_reader(law):
                       "high_volts": float(law.volts(s.high_nm))}
 
 
-def print_result(result, show_companions: bool, law=None) -> None:
+def print_result(result, show_companions: bool, law=None, uncertainty_text=None, meter=None) -> None:
     conditions = result.conditions
     click.echo(f"Stack: {result.stack}    unknown: {result.layer}    range {result.range_nm[0]:g}–"
                f"{result.range_nm[1]:g} nm (grid {result.step_nm:.3g} nm)")
     for c in conditions:
         extra = ""
         if getattr(c, "uncertainty", 0):
-            extra = f" ± {c.uncertainty:.3g}" if c.kind == "colour" else f" ± {percent(c.uncertainty)} %"
+            if c.kind == "colour":
+                extra = f" ± {c.uncertainty:.3g} ΔE00"
+            else:
+                # Points, never a bare '%': ± 0.60 % would read as a share of the value.
+                how = f" (--uncertainty {str(uncertainty_text).strip()}: {describe_uncertainty(uncertainty_text)})" \
+                    if uncertainty_text else ""
+                extra = f" ± {percent(c.uncertainty)} percentage points{how}"
         target = "" if c.kind == "colour" else f" = {percent(c.value)} %"
         click.echo(f"Condition: {c.label()}{target}{extra}")
+    if meter is not None and meter.sample is not None:
+        dark = "" if meter.dark is None else f" − dark {meter.dark:g}"
+        unit = f" {meter.unit}" if meter.unit else ""
+        click.echo(f"Reading: (sample {meter.sample:g}{dark}) / (reference {meter.reference:g}{dark}){unit} "
+                   f"= {percent(meter.ratio)} %")
     headers = ["#", "thickness (nm)", "low (nm)", "high (nm)"] + ([] if law is None else ["volts", "low V", "high V"])
     for c in conditions:
         headers += _value_headers(c)
@@ -272,18 +388,76 @@ def print_result(result, show_companions: bool, law=None) -> None:
 
 @dataclass(frozen=True)
 class _Column:
-    """A CSV file's rows and one column of readings; a row that cannot be read keeps its place
-    with a NaN value and a note, so the good rows are still solved."""
+    """A CSV file's rows and the readings in it; a row that cannot be read keeps its place with a
+    NaN value and a note, so the good rows are still solved."""
 
     header: list
     rows: list            # every data row, as lists of the header's length (for the output)
     values: object        # numpy array of fractions, NaN for a bad row
     notes: dict           # row index -> "line N: '…'" (the short status of a bad row)
     reasons: dict         # row index -> the full reason, for the one-line summary
+    raw: bool = False     # the readings came from raw sample/reference(/dark) columns
+    how: str = ""         # how the file was read, for the user
 
 
-def _read_column(path: Path, column: str | None) -> _Column:
-    """Rows of a CSV file, and the readings in one column (as fractions).
+_UNIT_IN_NAME = re.compile(r"^(?P<name>.*?)\s*[\(\[]\s*(?P<unit>[^\)\]]*?)\s*[\)\]]\s*$")
+
+
+def _column_name(cell: str) -> tuple[str, str]:
+    """``"sample (V)"`` → ("sample", "V"); ``"reading"`` → ("reading", "")."""
+    m = _UNIT_IN_NAME.match(cell.strip())
+    return (m.group("name").strip(), m.group("unit")) if m else (cell.strip(), "")
+
+
+def _find_column(header_names, wanted: str, path) -> int:
+    from filmoptic.errors import DataFileError
+
+    lowered = [n.lower() for n in header_names]
+    if wanted in header_names:
+        return header_names.index(wanted)
+    if wanted.lower() in lowered:
+        return lowered.index(wanted.lower())
+    raise DataFileError(f"--readings {path}: no column {wanted!r} (columns: {', '.join(header_names)})")
+
+
+def _choose_columns(path, header, column, columns):
+    """(indices, raw): one ratio column, or the raw sample, reference (and dark) columns."""
+    from filmoptic.errors import DataFileError, FilmopticError
+
+    names = [_column_name(h)[0] for h in header]
+    if column is not None and columns is not None:
+        raise FilmopticError("give either --column (a column of ratios) or --columns (raw readings), not both")
+    if columns is not None:
+        wanted = [c.strip() for c in str(columns).split(",")]
+        if len(wanted) not in (2, 3) or not all(wanted):
+            raise FilmopticError(f"--columns: name SAMPLE,REFERENCE or SAMPLE,REFERENCE,DARK, got {columns!r}")
+        return [_find_column(names, w, path) for w in wanted], True
+    if column is not None:
+        return [_find_column(names, column, path)], False
+    lowered = [n.lower() for n in names]
+    if "reading" in lowered:
+        return [lowered.index("reading")], False
+    if "sample" in lowered and "reference" in lowered:
+        found = [lowered.index("sample"), lowered.index("reference")]
+        if "dark" in lowered:
+            found.append(lowered.index("dark"))
+        return found, True
+    raise DataFileError(
+        f"--readings {path}: no 'reading' column, nor 'sample' and 'reference' columns; name the column with "
+        f"--column, or the raw columns with --columns SAMPLE,REFERENCE[,DARK] (columns: {', '.join(header)})"
+    )
+
+
+def _with_unit(cell: str, unit: str) -> str:
+    """A bare number takes the unit written in its column's header."""
+    text = cell.strip()
+    return f"{text}{unit}" if unit and re.fullmatch(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", text) else text
+
+
+def _read_column(path: Path, column: str | None, columns: str | None = None, dark: str | None = None) -> _Column:
+    """Rows of a CSV file, and the readings in it (as fractions): one column of ratios (``--column``,
+    default 'reading'), or raw readings in sample and reference columns, with an optional dark
+    column (``--columns``, default 'sample', 'reference', 'dark').
 
     A whole-file problem (unreadable file, no header, no such column, no usable row) raises; a bad
     row does not.
@@ -312,21 +486,20 @@ def _read_column(path: Path, column: str | None) -> _Column:
         raise DataFileError(f"--readings {path}: cannot read it ({exc.__class__.__name__})") from None
     except csv.Error as exc:
         raise DataFileError(f"--readings {path}: not a readable CSV file ({exc})") from None
+    blank = sum(1 for _, r in numbered if not any(cell.strip() for cell in r))
     numbered = [(line, r) for line, r in numbered if any(cell.strip() for cell in r)]
     if len(numbered) < 2:
         raise DataFileError(f"--readings {path}: needs a header line and at least one row of readings")
-    header = [h.strip() for h in numbered[0][1]]
-    if column is None:
-        column = "reading" if "reading" in header else None
-        if column is None:
-            raise DataFileError(
-                f"--readings {path}: no 'reading' column; name the column with --column (columns: {', '.join(header)})"
-            )
-    if column not in header:
-        raise DataFileError(f"--readings {path}: no column {column!r} (columns: {', '.join(header)})")
-    col = header.index(column)
+    header_line, header = numbered[0][0], [h.strip() for h in numbered[0][1]]
+    chosen, raw = _choose_columns(path, header, column, columns)
+    units = [_column_name(header[i])[1] for i in chosen]
+    separator = getattr(dialect, "delimiter", ",")
+    # Semicolon- and tab-separated exports from European locales write 0,304 for 0.304.
+    decimal_comma = separator in ";\t" and any(
+        re.fullmatch(r"\s*[+-]?\d+,\d+\s*[A-Za-zµμ%]*\s*", row[i]) for _, row in numbered[1:] for i in chosen if i < len(row)
+    )
     width = len(header)
-    rows, values, notes, reasons = [], [], {}, {}
+    rows, values, notes, reasons, units_seen = [], [], {}, {}, set()
     for index, (line, row) in enumerate(numbered[1:]):
         value = math.nan
         if len(row) != width:
@@ -334,22 +507,47 @@ def _read_column(path: Path, column: str | None) -> _Column:
             notes[index] = f"line {line}: {fields}"
             reasons[index] = notes[index]
         else:
+            cells = [row[i].replace(",", ".") if decimal_comma else row[i] for i in chosen]
+            text = "/".join(_with_unit(c, u) for c, u in zip(cells, units)) if raw else cells[0]
             try:
-                value = parse_reading(row[col])
+                if raw and not all(c.strip() for c in cells):
+                    raise FilmopticError("an empty cell")
+                meter = parse_reading(text, dark=dark if (dark is not None and len(chosen) < 3) else None)
+                value = meter.ratio
+                units_seen.add(meter.unit)
             except FilmopticError as exc:
-                notes[index] = f"line {line}: {row[col].strip()!r}"
+                notes[index] = f"line {line}: {' / '.join(repr(c.strip()) for c in cells)}" if raw else \
+                    f"line {line}: {row[chosen[0]].strip()!r}"
                 # parse_reading speaks of the --reading option; here the value came from a cell.
                 reasons[index] = f"line {line}: " + re.sub(r"^--reading:?\s*", "", str(exc))
         # The output keeps the header's columns so that the added ones line up.
         rows.append((row + [""] * width)[:width])
         values.append(value)
+    named = ", ".join(header[i] for i in chosen)
     if len(notes) == len(rows):
         first = reasons[0]
         raise DataFileError(
-            f"--readings {path}: no usable reading in column {column!r} ({len(rows)} "
+            f"--readings {path}: no usable reading in column{'s' if raw else ''} {named} ({len(rows)} "
             f"row{'s' if len(rows) != 1 else ''}; first problem: {first})"
         )
-    return _Column(header, rows, np.asarray(values, dtype=float), notes, reasons)
+    separators = {",": "commas", ";": "semicolons", "\t": "tabs"}
+    unit_text = ", ".join(sorted(u or "no unit" for u in units_seen))
+    if raw:
+        roles = ["sample", "reference", "dark"][: len(chosen)]
+        used = ", ".join(f"{r} = {header[i]}" for r, i in zip(roles, chosen))
+        dark_text = "" if len(chosen) == 3 else (f"; dark {dark} (--dark) from every row" if dark is not None else "; no dark reading")
+        what = f"raw readings ({used}{dark_text}; unit {unit_text}), ratio (sample − dark)/(reference − dark)"
+    else:
+        what = f"ratios in column {named} (fractions, percent or SAMPLE/REFERENCE per cell; unit {unit_text})"
+    dropped = ""
+    if notes:
+        first = reasons[min(reasons)]
+        dropped = f", {len(notes)} unusable (first: {' '.join(first.split())})"
+    how = (f"{separators.get(separator, repr(separator))} between fields, decimal "
+           f"{'comma' if decimal_comma else 'point'}; header on line {header_line}; {what}; "
+           f"{len(rows)} row{'s' if len(rows) != 1 else ''}{dropped}"
+           + (f"; {blank} blank line{'s' if blank != 1 else ''} skipped" if blank else ""))
+    return _Column(header, rows, np.asarray(values, dtype=float), notes, reasons, raw, how)
 
 
 def _spread(result, good):
@@ -375,29 +573,35 @@ def _spread(result, good):
     )
 
 
-def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
+def _run_batch(stack_text, opts, readings_path, column, columns, out, as_json, common):
     import csv
     import io
 
     import numpy as np
 
     from filmoptic.errors import FilmopticError
-    from filmoptic.solve import parse_uncertainty, solve_batch
+    from filmoptic.notes import note_file
+    from filmoptic.solve import solve_batch
+    from filmoptic.stack import parse_stack
 
-    conditions = build_conditions({**opts, "reading": None, "uncertainty": None}, need_value=False)
+    conditions = build_conditions({**opts, "reading": None, "uncertainty": None, "dark": None}, need_value=False)
     if len(conditions) != 1 or conditions[0].kind != "scalar":
         raise FilmopticError("--readings takes a column of readings alone: drop the other targets")
     if out is not None and Path(out).resolve() == Path(readings_path).resolve():
         raise FilmopticError("--out must not be the readings file itself (input files are never written)")
-    table = _read_column(Path(readings_path), column)
+    spec = uncertainty_spec(opts.get("uncertainty"))
+    table = _read_column(Path(readings_path), column, columns, opts.get("dark"))
     header, rows = table.header, table.rows
     added = ["thickness_nm", "low_nm", "high_nm", "solutions", "status"]
+    if table.raw:
+        added = ["ratio", *added]
     clash = [a for a in added if a in header]
     if clash:
         raise FilmopticError(f"--readings: the file already has column(s) {', '.join(clash)}; rename them")
-    u_text = opts.get("uncertainty")
-    relative = u_text is not None and str(u_text).strip().endswith("%")
-    u = 0.0 if u_text is None else (parse_uncertainty(u_text, 1.0) if relative else parse_uncertainty(u_text))
+    relative = spec is not None and spec[1] == "relative"
+    u = 0.0 if spec is None else spec[0]
+    note_file(readings_path, table.how)
+    warn_if_half_space(parse_stack(stack_text, ambient=common.get("ambient", "air")), conditions)
     from filmoptic.cli._common import progress
     from filmoptic.solve import BATCH_STEPS
 
@@ -423,8 +627,9 @@ def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
         writer = csv.writer(fh, lineterminator="\n")
         writer.writerow(header + added)
         for i, row in enumerate(rows):
-            writer.writerow(row + [cell(result.thickness_nm[i]), cell(result.low_nm[i]), cell(result.high_nm[i]),
-                                   int(result.solutions[i]), status(i)])
+            ratio = [cell(table.values[i])] if table.raw else []
+            writer.writerow(row + ratio + [cell(result.thickness_nm[i]), cell(result.low_nm[i]),
+                                           cell(result.high_nm[i]), int(result.solutions[i]), status(i)])
 
     counts = {k: int(np.sum(result.status == k)) for k in ("ok", "several", "unreachable", "bad")}
     if out is not None:
@@ -432,14 +637,16 @@ def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
         if as_json:
             emit_json({"rows": len(rows), "out": str(out), "counts": counts,
                        "range_nm": result.range_nm, "step_nm": result.step_nm,
-                       "condition": condition_json(conditions[0])})
+                       "condition": condition_json(conditions[0]), "read_as": table.how,
+                       "uncertainty_kind": None if spec is None else spec[1]})
         else:
             bad = f", {counts['bad']} bad reading{'s' if counts['bad'] != 1 else ''}" if counts["bad"] else ""
             click.echo(f"{len(rows)} rows: {counts['ok']} ok, {counts['several']} with several solutions "
                        f"(thinnest given), {counts['unreachable']} unreachable{bad} → {out}")
     elif as_json:
-        emit_json({"condition": condition_json(conditions[0]), "range_nm": result.range_nm,
-                   "rows": [{"thickness_nm": result.thickness_nm[i], "low_nm": result.low_nm[i],
+        emit_json({"condition": condition_json(conditions[0]), "range_nm": result.range_nm, "read_as": table.how,
+                   "uncertainty_kind": None if spec is None else spec[1],
+                   "rows": [{"ratio": table.values[i], "thickness_nm": result.thickness_nm[i], "low_nm": result.low_nm[i],
                              "high_nm": result.high_nm[i], "solutions": int(result.solutions[i]),
                              "status": "bad reading" if result.status[i] == "bad" else str(result.status[i]),
                              **({"problem": table.reasons[i]} if i in table.reasons else {})}
@@ -465,14 +672,23 @@ def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
 @click.option("--step", type=click.FloatRange(min=1e-4, max=50), metavar="NM",
               help="Grid step, nm (default: fine enough for the layer's index; the smaller of 1 nm and λ_min/(32·n_max), so no fringe is missed).")
 @click.option("--readings", "readings_path", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
-              help="A CSV file with one part per row: solve every reading in a column (see --column) and "
-                   "write a CSV with the thicknesses (see --out). --source, --detector, --reference and "
+              help="A CSV file with one part per row: solve every reading in a column of ratios (see --column) "
+                   "or in raw columns of sample and reference readings, optionally dark (see --columns), and "
+                   "write a CSV with the thicknesses (see --out). --source, --detector, --reference, --dark and "
                    "--uncertainty apply to every row. A row whose reading cannot be read is marked "
-                   "'bad reading (line N: …)' in the status column; the other rows are still solved.")
-@click.option("--column", metavar="NAME", help="Column of --readings holding the readings (default 'reading').")
+                   "'bad reading (line N: …)' in the status column; the other rows are still solved. How the "
+                   "file was read (separator, decimal mark, columns, units, rows dropped) is said on stderr.")
+@click.option("--column", metavar="NAME", help="Column of --readings holding the ratios (default 'reading').")
+@click.option("--columns", "columns", metavar="SAMPLE,REFERENCE[,DARK]",
+              help="Columns of --readings holding the raw readings (default: 'sample', 'reference' and, if "
+                   "present, 'dark', used when there is no 'reading' column). Cells may carry units (2.3V), "
+                   "or the header may (sample (V)).")
 @click.option("--out", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
               help="Where --readings writes its CSV: the input columns plus thickness_nm, low_nm, high_nm, "
-                   "solutions and status (default: standard output).")
+                   "solutions and status (and ratio, for raw readings) (default: standard output).")
+@click.option("--plot", "plot_path", metavar="FILE",
+              help="Draw the modelled quantity against the thickness, with the target or reading, its "
+                   "uncertainty band and every solution's interval, into FILE (.png, .svg or .pdf).")
 @click.option("--volts", "volts_text", metavar="START:STOP",
               help="Search anodising voltages instead of --range (with --anodize METAL or --nm-per-volt).")
 @law_options
@@ -480,8 +696,8 @@ def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
 @ambient_option
 @extrapolate_option
 @json_option
-def solve(stack, range_text, step, readings_path, column, out, volts_text, law_metal, nm_per_volt, offset_nm,
-          angle, ambient, extrapolate, as_json, **opts):
+def solve(stack, range_text, step, readings_path, column, columns, out, plot_path, volts_text, law_metal, nm_per_volt,
+          offset_nm, angle, ambient, extrapolate, as_json, **opts):
     """Find the thickness that meets a target or explains a reading.
 
     STACK has exactly one unknown thickness written '?', for example "Ti ? / glass 4mm". Give one
@@ -498,9 +714,18 @@ def solve(stack, range_text, step, readings_path, column, out, volts_text, law_m
     \b
     Measurements
       --reading 318/1045        a transmittance reading (or 0.304, or 30.4%)
+      --reading 2.3V/7.1V       raw readings with units; a third number is the dark reading
+      --dark 0.02V              the dark reading, subtracted from both
       --source A                the light: illuminant name, laser:633, led:530/30 or a file
-      --detector photopic       photopic (lux meter), flat (power meter) or a response file
+      --detector photopic       photopic (lux meter), flat (power meter), silicon (photodiode)
+                                or a response file
       --reference open          relative to the open beam, or 'bare' (an uncoated piece)
+
+    \b
+    Uncertainty
+      --uncertainty 2%          2 percent of the value (a 30 % target: ±0.6 points)
+      --uncertainty 2pp         2 percentage points (a 30 % target: 28–32 %)
+      --uncertainty 0.02        in the condition's own unit (a fraction; ΔE00 for colours)
 
     Every thickness in the range that meets the condition is listed, thinnest first: a transparent
     layer meets a target again every half wave (λ/2n) of thickness. Each solution shows its interval
@@ -514,11 +739,21 @@ def solve(stack, range_text, step, readings_path, column, out, volts_text, law_m
     If the condition cannot be met in the range the command says so, names the closest reachable
     value and where, and exits with status 2.
 
-    A column of readings (one part per row of a CSV file) is solved in one pass:
+    A column of readings (one part per row of a CSV file) is solved in one pass, from a column of
+    ratios or from the raw sample and reference (and dark) columns:
 
     \b
         filmoptic solve "Ti ? / glass 4mm" --readings parts.csv \\
             --column lux_ratio --source A --out thick.csv
+        filmoptic solve "Ti ? / glass 4mm" --readings raw.csv \\
+            --columns sample,reference,dark --detector silicon --source led:530
+
+    A substrate written without a thickness ('glass') is a half-space: only its front surface
+    counts. For a transmittance that changes the answer (a real pane's back surface is left out),
+    and the command says so; write the pane's thickness ('glass 4mm').
+
+    --plot draws the modelled value against the thickness, with the target or reading, its
+    uncertainty band and every solution's interval.
 
     For an anodised layer, --anodize METAL (Ti, Nb, Ta, Al, Zr; or your own --nm-per-volt and
     --offset-nm) reads every solution in volts as well (thickness = nm-per-volt × volts + offset),
@@ -543,25 +778,41 @@ def solve(stack, range_text, step, readings_path, column, out, volts_text, law_m
             range_nm = tuple(float(x) for x in law.thickness_nm(span))
         if law is not None and readings_path is not None:
             raise FilmopticError("--anodize/--nm-per-volt read single solutions in volts; leave them out with --readings")
+        if plot_path is not None:
+            if readings_path is not None:
+                raise FilmopticError("--plot draws one solve; leave it out with --readings FILE")
+            check_plot_path(plot_path)
         common = dict(range_nm=range_nm, step_nm=step, angle_deg=angle, extrapolate=extrapolate, ambient=ambient)
         if readings_path is not None:
             if opts.get("reading") is not None:
                 raise FilmopticError("give either --reading or --readings FILE, not both")
-            _run_batch(stack, opts, readings_path, column, out, as_json, common)
+            _run_batch(stack, opts, readings_path, column, columns, out, as_json, common)
             return
-        if column is not None or out is not None:
-            raise FilmopticError("--column and --out belong to --readings FILE")
+        if column is not None or columns is not None or out is not None:
+            raise FilmopticError("--column, --columns and --out belong to --readings FILE")
         conditions = build_conditions(opts)
+        meter = meter_reading(opts)
         parsed = parse_stack(stack, ambient=ambient)
         result = solve_thickness(parsed, conditions, **common)
     if not result.met:
         # A user error is one line on stderr: no caution before it (nothing was computed to trust).
         raise TargetError(result.message)
+    if plot_path is not None:
+        from filmoptic.plots.solve import plot_solve
+
+        with user_errors():
+            save_plot(plot_solve(result, angle_deg=angle, extrapolate=extrapolate, ambient=ambient), plot_path)
+    warn_if_half_space(parsed, conditions)
     if needs_eye_caution(conditions, result.solutions):
         echo_caution(EYE_CAUTION)
     volts_of = _volts_reader(law)
     warn_thin_metal(parsed, [s.thickness_nm for s in result.solutions])
+    u_text = opts.get("uncertainty")
     if as_json:
+        if plot_path is not None:
+            from filmoptic.notes import note
+
+            note(f"plot written to {plot_path}")
         emit_json({
             **({} if law is None else {"nm_per_volt": law.nm_per_volt, "offset_nm": law.offset_nm,
                                        "law_source": law.source}),
@@ -570,14 +821,24 @@ def solve(stack, range_text, step, readings_path, column, out, volts_text, law_m
             "layer": result.layer,
             "condition": condition_json(conditions[0]),
             "conditions": [condition_json(c) for c in conditions],
+            "uncertainty_kind": None if u_text is None else uncertainty_spec(u_text, _all_colour(conditions))[1],
+            **({} if meter is None else {"reading": to_jsonable(meter)}),
             "range_nm": result.range_nm,
             "step_nm": result.step_nm,
             "message": result.message,
             "solutions": [{**to_jsonable(s), **volts_of(s)} for s in result.solutions],
+            **({} if plot_path is None else {"plot": str(plot_path)}),
         })
         return
-    print_result(result, show_companions=_free_layer_kind(parsed) == "metal", law=law)
+    print_result(result, show_companions=_free_layer_kind(parsed) == "metal", law=law,
+                 uncertainty_text=None if _all_colour(conditions) else u_text, meter=meter)
     echo_surface_oxides(parsed)
+    if plot_path is not None:
+        click.echo(f"Plot written to {plot_path} (the modelled value against thickness, with the solutions).")
+
+
+def _all_colour(conditions) -> bool:
+    return all(c.kind == "colour" for c in conditions)
 
 
 def _free_layer_kind(stack) -> str:

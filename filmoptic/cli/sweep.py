@@ -2,11 +2,14 @@
 
 from __future__ import annotations
 
+import math
+
 import click
 
 from filmoptic.cli._common import (
     ambient_option,
     angle_option,
+    check_output_path,
     check_plot_path,
     emit_json,
     extrapolate_option,
@@ -17,6 +20,7 @@ from filmoptic.cli._common import (
     save_plot,
     user_errors,
     transmission_note,
+    write_atomically,
 )
 from filmoptic.cli.anodize import law_from_options, law_options, volts_from_option
 from filmoptic.cli.color import (
@@ -78,6 +82,69 @@ def _thicknesses(range_text, bounds, name):
     return thickness
 
 
+# The printed table keeps to about this many rows by default; --csv and --json hold every one.
+_TABLE_ROWS = 100
+# Printed steps tried in turn (in the sweep's unit, nm or V): every 5, 10, 20, 50 … of them.
+_TABLE_STEPS = (5.0, 10.0, 20.0, 50.0, 100.0, 200.0, 500.0, 1000.0, 2000.0, 5000.0)
+
+
+def table_rows(axis, table_step=None):
+    """Indices of the rows the table prints: every row of a short sweep; otherwise the rows on a
+    coarser printed step (5, 10, 20 … in the axis unit, the first giving at most about
+    ``_TABLE_ROWS`` rows), or on ``table_step``; the last row always.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> rows, step = table_rows(np.arange(0.0, 251.0))
+    >>> len(rows), step, rows[:3].tolist()
+    (51, 5.0, [0, 5, 10])
+    """
+    import numpy as np
+
+    axis = np.asarray(axis, dtype=float)
+    n = axis.size
+    grid = float(axis[1] - axis[0]) if n > 1 else 0.0
+    if n < 2 or grid <= 0:
+        return np.arange(n), grid
+    if table_step is None:
+        if n <= _TABLE_ROWS:
+            return np.arange(n), grid
+        span = float(axis[-1] - axis[0])
+        table_step = next((t for t in _TABLE_STEPS if t >= grid and span / t <= _TABLE_ROWS), None)
+        if table_step is None:
+            table_step = grid * math.ceil(n / _TABLE_ROWS)
+    every = max(1, int(round(table_step / grid)))
+    rows = np.arange(0, n, every)
+    if rows[-1] != n - 1:
+        rows = np.append(rows, n - 1)
+    return rows, every * grid
+
+
+def _write_sweep_csv(fh, result, volts) -> None:
+    """Every row of the sweep: thickness (and volts), colours, luminous values as fractions."""
+    import csv
+
+    writer = csv.writer(fh, lineterminator="\n")
+    head = ["volts"] if volts is not None else []
+    writer.writerow(head + ["thickness_nm", "reflected_L", "reflected_a", "reflected_b", "reflected_hex",
+                            "reflected_in_gamut", "transmitted_L", "transmitted_a", "transmitted_b",
+                            "transmitted_hex", "transmitted_in_gamut", "luminous_T", "luminous_R",
+                            "luminous_A_layers", "luminous_A_substrate"])
+    for i, d in enumerate(result.thickness_nm):
+        r = result.reflected[i]
+        row = [f"{volts[i]:.10g}"] if volts is not None else []
+        row += [f"{d:.10g}", *(f"{float(v):.6f}" for v in r.Lab), r.hex, bool(r.in_gamut)]
+        if result.transmitted is None:
+            row += [""] * 5          # an opaque part: no light comes through, so no colour
+        else:
+            t = result.transmitted[i]
+            row += [*(f"{float(v):.6f}" for v in t.Lab), t.hex, bool(t.in_gamut)]
+        row += [f"{float(result.luminous_T[i]):.10g}", f"{float(result.luminous_R[i]):.10g}",
+                f"{float(result.luminous_A_layers[i]):.10g}", f"{float(result.luminous_A_substrate[i]):.10g}"]
+        writer.writerow(row)
+
+
 def _lab_text(lab) -> list[str]:
     L, a, b = (float(v) for v in lab)
     return [f"{L:.1f}", f"{a:+.1f}", f"{b:+.1f}"]
@@ -104,10 +171,20 @@ def _lab_text(lab) -> list[str]:
     "--chart", "chart_path", metavar="FILE",
     help="Write a printable A4 colour-versus-thickness chart: .png, .svg or .pdf.",
 )
+@click.option(
+    "--csv", "csv_path", metavar="FILE",
+    help="Write every row of the sweep to FILE (the full grid; the printed table may show a coarser step): "
+         "thickness_nm, reflected and transmitted L, a, b, hex and in_gamut, luminous_T and luminous_R as fractions.",
+)
+@click.option(
+    "--table-step", "table_step", type=click.FloatRange(min=0, min_open=True), metavar="STEP",
+    help="Print every STEP nm (or volts with --volts) of the sweep in the table. Default: every row of a "
+         "short sweep (up to 100 rows), else every 5 (10, 20 …) nm, the first giving at most about 100 rows.",
+)
 @extrapolate_option
 @json_option
 def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illuminant, observer, angle, ambient,
-          chart_path, extrapolate, as_json):
+          chart_path, csv_path, table_step, extrapolate, as_json):
     """Colour and luminous values of STACK over a range of one layer's thickness.
 
     STACK has exactly one unknown, the thickness of the layer to vary, written '?' (then
@@ -141,6 +218,10 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
     everything entering a metal or silicon half-space). When the substrate is an absorbing
     half-space no light comes through: there is no transmitted colour and T is 0.
 
+    The printed table keeps to about 100 rows: a longer sweep is printed every 5 nm (10, 20 …
+    for wider ranges; --table-step says otherwise) and says so; --csv FILE and --json hold every
+    computed thickness.
+
     With --json: thickness_nm (and volts with a growth law), luminous_T, luminous_R,
     luminous_A_layers, luminous_A_substrate (fractions), reflected_Lab, reflected_hex,
     reflected_in_gamut, transmitted_Lab, transmitted_hex, transmitted_in_gamut (null when no light
@@ -156,6 +237,8 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
     with user_errors():
         if chart_path:
             check_plot_path(chart_path)
+        if csv_path:
+            check_output_path(csv_path, "--csv file")
         if range_text is not None:
             parse_range_nm(range_text, what="--range", need_step=True)   # before the stack's errors
         obs = check_observer(observer)
@@ -189,6 +272,10 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
                                       title=f"Colour versus anodising voltage: {result.stack_text}"),
                           chart_path)
 
+    if csv_path:
+        with user_errors():
+            write_atomically(csv_path, lambda fh: _write_sweep_csv(fh, result, volts))
+
     if as_json:
         seen = result.transmitted
         emit_json({
@@ -208,9 +295,12 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
             "transmission": result.transmission,
         })
     else:
+        axis = result.thickness_nm if volts is None else volts
+        shown, printed_step = table_rows(axis, table_step)
         rows = []
         seen = result.transmitted is not None
-        for i, d in enumerate(result.thickness_nm):
+        for i in shown:
+            d = result.thickness_nm[i]
             r = result.reflected[i]
             row = ([] if volts is None else [f"{volts[i]:.4g}"]) + [f"{d:g}"] + _lab_text(r.Lab) + [r.hex + ("" if r.in_gamut else " *")]
             if seen:
@@ -225,13 +315,20 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
                    + (["T L*", "T a*", "T b*", "T sRGB"] if seen else [])
                    + ["T lum %", "R lum %", "A layers %", "A substrate %"])
         print_table(headers, rows, title=title)
+        if len(shown) < len(axis):
+            unit = "nm" if volts is None else "V"
+            grid_step = float(axis[1] - axis[0])
+            click.echo(f"Every {printed_step:g} {unit} of the {grid_step:g} {unit} grid is shown ({len(shown)} of "
+                       f"{len(axis)} rows); --csv FILE or --json has every row, --table-step {grid_step:g} prints them.")
         note = transmission_note(result.transmission)
         if note:
             click.echo(note)
-        if not (np.all(result.reflected.in_gamut) and (not seen or np.all(result.transmitted.in_gamut))):
+        if not (np.all(result.reflected.in_gamut[shown]) and (not seen or np.all(result.transmitted.in_gamut[shown]))):
             click.echo(OUT_OF_GAMUT_NOTE)
 
     if chart_path and not as_json:
         click.echo(f"Chart written to {chart_path}")
+    if csv_path and not as_json:
+        click.echo(f"Table written to {csv_path} (every row)")
     if result.transmission_exits:
         caution_if_dark(result.luminous_T)

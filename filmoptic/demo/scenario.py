@@ -132,3 +132,7 @@ DESIGN_GOALS = ("luminous-T = 30%", "reflected Lab = 62,0,0 within 2")
 DESIGN_SEED = 20261203
 DESIGN_TOLERANCE = "3%"            # each layer within ±3 % of its thickness, spread evenly
 DESIGN_SAMPLES = 2000
+# --- Notation of the trade (quarter waves): the display case's antireflection coating ---------
+# invented: the studio coats its display-case glass with one quarter wave of MgF2 at 550 nm,
+# written as the trade does instead of in nm.
+DISPLAY_AR_STACK = "{550nm} MgF2 1qw / glass 4mm"

@@ -70,3 +70,17 @@ def run(outdir: pathlib.Path, say) -> None:
     say(f"  nothing comes through: the rest ({100 * A_metal:.1f} % on average) enters the bulk titanium "
         "and is absorbed there")
     say("  → spectra.csv (fractions), spectra.png (R, T, A against wavelength)")
+
+    # The display case: a quarter-wave antireflection layer, written in quarter waves.
+    from filmoptic.colorimetry import default_wavelengths, luminous
+    from filmoptic.demo.scenario import DISPLAY_AR_STACK
+
+    case = parse_stack(DISPLAY_AR_STACK)
+    layer = case.layers[0]
+    visible = default_wavelengths()
+    coated = float(luminous(visible, compute(case, visible).R))
+    bare = float(luminous(visible, compute(case.bare(), visible).R))
+    count, design_nm = layer.quarter_waves
+    say(f"Display case {DISPLAY_AR_STACK}: {count:g} quarter wave of {layer.material} at {design_nm:g} nm "
+        f"is {layer.thickness_nm:.2f} nm; luminous R {100 * bare:.1f} % bare, {100 * coated:.1f} % coated "
+        "(one face coated; the uncoated back face still reflects)")

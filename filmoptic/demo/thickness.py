@@ -26,7 +26,6 @@ def _cell(value, fmt) -> str:
 
 def run(outdir: pathlib.Path, say) -> None:
     """Run the thickness part of the demo, writing its tables and a plot into ``outdir``."""
-    import numpy as np
 
     from filmoptic.choose import compare_materials
     from filmoptic.demo import scenario as sc
@@ -59,7 +58,7 @@ def run(outdir: pathlib.Path, say) -> None:
     say("  → thickness_compare.csv")
 
     # 2. The lux-meter reading after the titanium run: thickness with an uncertainty.
-    ratio = parse_reading(f"{sc.LUX_COATED}/{sc.LUX_OPEN}")
+    ratio = parse_reading(f"{sc.LUX_COATED}/{sc.LUX_OPEN}").ratio
     reading = Reading(ratio, source=sc.LUX_SOURCE, detector="photopic", reference="open",
                       uncertainty=sc.LUX_UNCERTAINTY * ratio)
     result = solve_thickness(sc.LUX_STACK, reading)
@@ -78,21 +77,13 @@ def run(outdir: pathlib.Path, say) -> None:
                [[f"{ratio:.5f}", f"{measured.thickness_nm:.3f}", f"{measured.low_nm:.3f}",
                  f"{measured.high_nm:.3f}", f"{measured.slope_per_nm:.5f}"]])
 
-    # A picture of the same: the modelled ratio against thickness, with the reading's band.
-    from filmoptic.plots import new_figure, save_figure
-    from filmoptic.solve import evaluate_condition
+    # A picture of the same (what `filmoptic solve --plot` draws): the modelled ratio against
+    # thickness, with the reading's band and the thickness interval.
+    from filmoptic.plots import save_figure
+    from filmoptic.plots.solve import plot_solve
 
-    grid = np.linspace(0.0, 40.0, 161)
-    fig, ax = new_figure(figsize=(6, 4))
-    ax.plot(grid, 100 * evaluate_condition(sc.LUX_STACK, reading, grid), color="k", label="modelled lux ratio")
-    ax.axhspan(100 * (ratio - reading.uncertainty), 100 * (ratio + reading.uncertainty), color="tab:orange",
-               alpha=0.3, label="reading ± uncertainty")
-    ax.axvspan(measured.low_nm, measured.high_nm, color="tab:blue", alpha=0.3, label="thickness interval")
-    ax.set_xlabel("Ti thickness (nm)")
-    ax.set_ylabel("lux ratio, coated / open (%)")
-    ax.set_title("Thickness from a lux-meter reading (fictional scenario)")
-    ax.legend()
-    save_figure(fig, outdir / "thickness_lux.png")
+    save_figure(plot_solve(result, title="Thickness from a lux-meter reading (fictional scenario)"),
+                outdir / "thickness_lux.png")
     say("  → thickness_reading.csv, thickness_lux.png")
 
     # 3. Time for the next run: rate from the two calibration runs, target from step 1.

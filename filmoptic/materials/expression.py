@@ -3,7 +3,7 @@
 Grammar (whitespace allowed around tokens; function names are case-insensitive)::
 
     material    := library | constant | model | mix | file
-    library     := NAME [":" DATASET]                     Ti, TiO2:Devore-1951, glass
+    library     := NAME [":" DATASET]                     Ti, TiO2:Devore-1951, glass, copper, float glass
     constant    := "n=" coef [("+"|"-") coef ("j"|"i")]    n=1.46, n=2.54+3.43j, n=?+0..0.5j
     model       := "cauchy(" coef "," coef "," coef ["," coef] ")"        A, B, C [, k]
                  | "sellmeier(" coef "," coef {"," coef "," coef} ")"    B1, C1 [, B2, C2 [, B3, C3]]
@@ -26,6 +26,7 @@ from filmoptic.errors import StackSyntaxError
 from filmoptic.params import Free
 
 from .base import Material
+from .common_names import common_name
 from .library import get_material
 from .mixing import Bruggeman
 from .models import Cauchy, Constant, Drude, Lorentz, Sellmeier
@@ -150,6 +151,9 @@ def _parse_file(text: str) -> Material:
     if not path:
         raise StackSyntaxError("file: needs a path, e.g. file:my_film.txt")
     table = load_nk_file(path)
+    from filmoptic.notes import note_file
+
+    note_file(path, getattr(table, "how_read", "n,k table"))
     # The cached table is shared; hand out a copy that remembers how it was written.
     material = object.__new__(type(table))
     material.__dict__.update(table.__dict__)
@@ -219,8 +223,8 @@ def parse_material(text: str) -> Material:
                 raise StackSyntaxError(f"{function}: wrong number of arguments; write {usage}") from None
         known = ", ".join(["mix", *_MODELS])
         raise StackSyntaxError(f"unknown function {call.group(1)!r} in {s!r}: known ones are {known}")
-    if _NAME_RE.match(s):
-        name, _, dataset = s.partition(":")
+    name, _, dataset = s.partition(":")
+    if _NAME_RE.match(s) or common_name(name) is not None:
         return get_material(name.strip(), dataset.strip() or None)
     raise StackSyntaxError(
         f"cannot read the material {s!r}: use a library name (see `filmoptic materials`), "

@@ -188,6 +188,13 @@ def find_dataset(name: str, dataset: str | None = None) -> MaterialInfo:
     index = _index()
     entry = index.get(name.strip().lower())
     if entry is None:
+        from .common_names import common_name
+
+        # "copper", "float glass": a common name stands for a library name (and maybe a dataset).
+        mapped = common_name(name)
+        if mapped is not None:
+            mapped_name, _, mapped_dataset = mapped.partition(":")
+            return find_dataset(mapped_name, dataset if dataset and dataset.strip() else (mapped_dataset or None))
         from .gaps import gap_note
 
         missing = gap_note(name)

@@ -268,10 +268,35 @@ def read_nk_file(path, *, name=None) -> TabulatedMaterial:
             f"{path}: the wavelengths end at {wl[-1]:g}, which looks like micrometres; "
             "the first column must be in nm"
         )
-    return TabulatedMaterial(
+    material = TabulatedMaterial(
         wl, n, k, name=name, dataset=dataset, reference=header.get("reference", ""), kind=kind,
         header=header,
     )
+    material.how_read = _how_read(path, table, header)
+    return material
+
+
+def _how_read(path, table, header) -> str:
+    """How an n,k file was read, in a line for the user (separator, columns, units, header)."""
+    separator, title = "spaces", False
+    with open(path, encoding="utf-8") as fh:
+        for line in fh:
+            stripped = line.split("#", 1)[0].strip()
+            if not stripped:
+                continue
+            try:
+                [float(p) for p in re.split(r"[,\s;]+", stripped) if p]
+            except ValueError:
+                title = True
+                continue
+            separator = next((name for mark, name in ((";", "semicolons"), (",", "commas"), ("\t", "tabs"))
+                              if mark in line), "spaces")
+            break
+    two = bool(np.all(table[:, 2] == 0)) and "k" not in header
+    columns = "wavelength (nm), n" + (", k" if not two else " (k taken as 0: no third column)")
+    extra = f"; header keys {', '.join(sorted(header))}" if header else ""
+    return (f"{separator} between fields, decimal point; columns {columns}; {len(table)} rows"
+            + ("; a column-title line skipped" if title else "") + extra)
 
 
 @functools.lru_cache(maxsize=256)
