@@ -253,7 +253,9 @@ def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectru
     [1.5]
     >>> os.unlink(fh.name)
     """
-    p = Path(path)
+    from .files import guard_input
+
+    p = guard_input(path, what)
     name = str(path)
     if not p.exists():
         raise DataFileError(f"{what} {name}: no such file")
@@ -369,7 +371,7 @@ def check_illuminant(illuminant) -> str:
         return illuminant.source
     kind, key = _illuminant_key(illuminant)
     if kind == "file":
-        _file_spectrum(key, _mtime(key))
+        _illuminant_file(key)
         return key
     return illuminant_label(illuminant)
 
@@ -389,6 +391,15 @@ def _mtime(path: str) -> float:
         return os.stat(path).st_mtime
     except OSError:
         return -1.0
+
+
+def _illuminant_file(path: str) -> TabulatedSpectrum:
+    """An illuminant file's table, cached while the file is unchanged (recorded as an input of
+    the run on every use, cached or not)."""
+    from .files import guard_input
+
+    guard_input(path, "illuminant file")
+    return _file_spectrum(path, _mtime(path))
 
 
 @lru_cache(maxsize=32)
@@ -440,7 +451,7 @@ def illuminant_table(illuminant) -> TabulatedSpectrum:
         return illuminant
     kind, key = _illuminant_key(illuminant)
     if kind == "file":
-        return _file_spectrum(key, _mtime(key))
+        return _illuminant_file(key)
     wl, values = _cie_table(key)
     return TabulatedSpectrum(wl, values, f"CIE illuminant {illuminant_label(illuminant)}")
 

@@ -117,6 +117,9 @@ def _words(text: str) -> list[str]:
 
 
 def _read_lines(path: Path) -> list[str]:
+    from .files import guard_input
+
+    guard_input(path, "measured spectrum")
     if not path.exists():
         raise DataFileError(f"measured spectrum {path}: no such file")
     if path.is_dir():

@@ -277,6 +277,9 @@ def _read_column(path: Path, column: str | None) -> _Column:
     from filmoptic.errors import DataFileError, FilmopticError
     from filmoptic.readings import parse_reading
 
+    from filmoptic.files import guard_input
+
+    guard_input(path, "--readings")
     try:
         with open(path, newline="", encoding="utf-8-sig") as fh:
             sample = fh.read(4096)
@@ -369,8 +372,6 @@ def _run_batch(stack_text, opts, readings_path, column, out, as_json, common):
     conditions = build_conditions({**opts, "reading": None, "uncertainty": None}, need_value=False)
     if len(conditions) != 1 or conditions[0].kind != "scalar":
         raise FilmopticError("--readings takes a column of readings alone: drop the other targets")
-    if out is not None and Path(out).resolve() == Path(readings_path).resolve():
-        raise FilmopticError("--out must not be the readings file itself (input files are never written)")
     table = _read_column(Path(readings_path), column)
     header, rows = table.header, table.rows
     added = ["thickness_nm", "low_nm", "high_nm", "solutions", "status"]

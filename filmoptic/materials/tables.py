@@ -25,7 +25,7 @@ import numpy as np
 
 from filmoptic.errors import DataFileError
 
-from .base import KINDS, Material
+from .base import KINDS, MAX_INDEX, MIN_INDEX, Material
 
 __all__ = ["TabulatedMaterial", "read_header", "read_nk_file", "load_nk_file", "write_nk_file"]
 
@@ -128,6 +128,19 @@ def _check_rows(wl, n, k, label):
     check_wavelength_column(wl, label)
     if np.any(n <= 0):
         raise DataFileError(f"{label}: n must be positive (found {n.min():g})")
+    small = np.hypot(n, k) < MIN_INDEX
+    if np.any(small):
+        i = int(np.argmax(small))
+        raise DataFileError(
+            f"{label}: row {i + 1} (n = {n[i]:.3g}, k = {k[i]:.3g} at {wl[i]:g} nm) is not an optical "
+            f"constant: |N| = √(n² + k²) must be at least {MIN_INDEX:g}"
+        )
+    if np.any(n > MAX_INDEX) or np.any(k > MAX_INDEX):
+        i = int(np.argmax((n > MAX_INDEX) | (k > MAX_INDEX)))
+        raise DataFileError(
+            f"{label}: row {i + 1} (n = {n[i]:.3g}, k = {k[i]:.3g}) is not an optical constant "
+            f"(n and k at most {MAX_INDEX:g})"
+        )
     if np.any(k < 0):
         raise DataFileError(
             f"{label}: k must be >= 0 (found {k.min():g}); filmoptic writes N = n + i·k, so a table "
@@ -213,7 +226,9 @@ def header_range(header, fallback=None):
 
 def read_nk_file(path, *, name=None) -> TabulatedMaterial:
     """Read an nkdata-format file into a :class:`TabulatedMaterial` (uncached)."""
-    path = Path(path)
+    from filmoptic.files import guard_input
+
+    path = guard_input(path, "n,k file")
     header = read_header(path)
     table = _parse_rows(path)
     wl, n, k = table.T
@@ -253,7 +268,9 @@ def load_nk_file(path) -> TabulatedMaterial:
     -------
     TabulatedMaterial
     """
-    path = Path(os.path.expanduser(str(path)))
+    from filmoptic.files import guard_input
+
+    path = guard_input(path, "n,k file")
     try:
         st = path.stat()
     except FileNotFoundError:
