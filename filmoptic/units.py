@@ -13,6 +13,7 @@ import re
 import numpy as np
 
 from .errors import FilmopticError
+from .limits import GRID_POINTS, check_number_text
 
 __all__ = [
     "LENGTH_UNITS_NM",
@@ -23,6 +24,10 @@ __all__ = [
     "parse_fraction",
     "parse_duration_s",
     "parse_angles_deg",
+    "MAX_LENGTH_NM",
+    "WAVELENGTH_RANGE_NM",
+    "MIN_DURATION_S",
+    "MAX_DURATION_S",
 ]
 
 #: Length units accepted everywhere, in nanometres.
@@ -35,10 +40,14 @@ _DURATION_UNITS_S = {
     "min": 60.0, "mins": 60.0, "minute": 60.0, "minutes": 60.0, "m": 60.0,
     "h": 3600.0, "hr": 3600.0, "hrs": 3600.0, "hour": 3600.0, "hours": 3600.0,
 }
-# Guards against absurd input (a grid that would not fit in memory is a typo, not a request).
-MAX_GRID_POINTS = 2_000_000
-# A deposition or measurement longer than this (about 4 months) is a typo, not a request.
+#: A length above this (1 m) is a typo, not a coating or a substrate.
+MAX_LENGTH_NM = 1e9
+#: Wavelengths filmoptic computes with, nm: from soft X-rays (1 nm) to the far infrared (1 mm).
+WAVELENGTH_RANGE_NM = (1.0, 1e6)
+#: A deposition or measurement longer than this (about 4 months) is a typo, not a request.
 MAX_DURATION_S = 1e7
+#: … or shorter than a millisecond (no shutter opens and closes that fast).
+MIN_DURATION_S = 1e-3
 # Units a wavelength may carry in a grid or list (the bare number means nm).
 _WAVELENGTH_UNIT_RE = re.compile(r"^(.*?)\s*(nm|um|µm|μm)$")
 
@@ -52,6 +61,7 @@ def parse_number(text: str, what: str = "number") -> float:
     150.0
     """
     s = str(text).strip()
+    check_number_text(s, what)
     if not re.fullmatch(_NUMBER, s):
         if re.fullmatch(r"[+-]?\d+,\d+", s):
             # A decimal comma (common on European instruments and keyboards).
@@ -76,6 +86,7 @@ def parse_length_nm(text: str, what: str = "thickness", allow_zero: bool = True)
     >>> parse_length_nm("3 mm")
     3000000.0
     """
+    check_number_text(str(text).strip(), what)
     m = _LENGTH_RE.match(str(text))
     if not m:
         if re.fullmatch(rf"\s*{_NUMBER}\s*", str(text)):
@@ -87,7 +98,7 @@ def parse_length_nm(text: str, what: str = "thickness", allow_zero: bool = True)
     value = float(m.group(1)) * LENGTH_UNITS_NM[m.group(2)]
     if not math.isfinite(value) or value < 0 or (value == 0 and not allow_zero):
         raise FilmopticError(f"{what} must be a positive length, got {text!r}")
-    if value > 1e9:
+    if value > MAX_LENGTH_NM:
         raise FilmopticError(f"{what} {text!r} is absurdly large (over 1 m)")
     return value
 
@@ -97,9 +108,11 @@ def _grid(start: float, stop: float, step: float, what: str) -> np.ndarray:
         raise FilmopticError(f"{what}: the step must be positive, got {step:g}")
     if stop < start:
         raise FilmopticError(f"{what}: the stop ({stop:g}) is below the start ({start:g})")
-    count = int(math.floor((stop - start) / step + 1e-9)) + 1
-    if count > MAX_GRID_POINTS:
-        raise FilmopticError(f"{what}: {count} points is too many (at most {MAX_GRID_POINTS})")
+    count = math.floor((stop - start) / step + 1e-9) + 1 if math.isfinite((stop - start) / step) else math.inf
+    GRID_POINTS.check(count, f"{what} {start:g}:{stop:g}:{step:g}", "use a larger step or a shorter range")
+    count = int(count)
+    if count > 1 and start + step == start:
+        raise FilmopticError(f"{what}: the step {step:g} is too small to change {start:g}")
     # Built from integers so that 380:780:5 ends exactly on 780.
     return start + step * np.arange(count, dtype=float)
 
@@ -127,8 +140,14 @@ def parse_wavelengths_nm(text: str, what: str = "--wl") -> np.ndarray:
         values = np.array([_wavelength_nm(p, what, text) for p in s.split(",")], dtype=float)
     if np.any(values <= 0):
         raise FilmopticError(f"{what}: wavelengths must be positive (nm), got {text!r}")
-    if np.any(values > 1e6):
+    if np.any(values > WAVELENGTH_RANGE_NM[1]):
         raise FilmopticError(f"{what}: {text!r} is beyond 1 mm; wavelengths are in nm")
+    if np.any(values < WAVELENGTH_RANGE_NM[0]):
+        raise FilmopticError(
+            f"{what}: {text!r} reaches below {WAVELENGTH_RANGE_NM[0]:g} nm; wavelengths are in nm "
+            f"(filmoptic works from {WAVELENGTH_RANGE_NM[0]:g} nm to 1 mm)"
+        )
+    GRID_POINTS.check(values.size, what, "give fewer wavelengths")
     return values
 
 
@@ -167,6 +186,8 @@ def parse_range_nm(text: str, what: str = "--range", need_step: bool = False) ->
     values = tuple(parse_number(p, what) for p in parts)
     if values[0] < 0 or values[1] <= values[0]:
         raise FilmopticError(f"{what}: need 0 <= START < STOP, got {text!r}")
+    if values[1] > MAX_LENGTH_NM:
+        raise FilmopticError(f"{what}: {text!r} reaches beyond 1 m; the values are in nm")
     if len(values) == 3:
         _grid(*values, what)  # validates step and size
     return values
@@ -209,6 +230,7 @@ def parse_duration_s(text: str, what: str = "duration") -> float:
     5400.0
     """
     s = str(text).strip().lower().replace(" ", "")
+    check_number_text(s, what)
     if re.fullmatch(_NUMBER, s):
         value = float(s)
     else:
@@ -222,6 +244,8 @@ def parse_duration_s(text: str, what: str = "duration") -> float:
             value += float(number) * _DURATION_UNITS_S[unit]
     if not math.isfinite(value) or value <= 0:
         raise FilmopticError(f"{what} must be positive, got {text!r}")
+    if value < MIN_DURATION_S:
+        raise FilmopticError(f"{what} {text!r} is absurdly short (under a millisecond)")
     if value > MAX_DURATION_S:
         raise FilmopticError(f"{what} {text!r} is absurdly long (over {MAX_DURATION_S / 86400:.0f} days)")
     return value
