@@ -1204,7 +1204,7 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
     ----------
     CIE 15:2018; ISO 9050:2003; Macleod, *Thin-Film Optical Filters*, ch. 2 (the engine).
     """
-    from .engine import compute
+    from .engine import check_work, compute, interface_count
 
     stack = _stack_from(stack, ambient)
     _free_thickness_index(stack)
@@ -1217,6 +1217,9 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
     if not np.all(np.isfinite(d)) or np.any(d < 0):
         raise FilmopticError("sweep thicknesses must be finite and not negative")
     _check_inside_bounds(stack, d)
+    check_work(d.size * wl.size, interface_count(stack),
+               f"sweeping {d.size} thicknesses × {wl.size} wavelengths × {interface_count(stack)} interfaces",
+               "use a larger step or a shorter range")
     angle = float(angle_deg)
     if not 0 <= angle < 90:
         raise FilmopticError("the angle of incidence must lie in [0, 90) degrees")

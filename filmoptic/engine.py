@@ -46,7 +46,8 @@ import numpy as np
 
 from filmoptic.errors import FilmopticError
 
-__all__ = ["Spectrum", "POLARIZATIONS", "compute", "compute_indices", "CHUNK_BYTES"]
+__all__ = ["Spectrum", "POLARIZATIONS", "compute", "compute_indices", "CHUNK_BYTES", "interface_count",
+           "check_work"]
 
 #: The polarisation names :func:`compute` accepts.
 POLARIZATIONS = ("s", "p", "unpolarized")
@@ -175,7 +176,7 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
 
     out_shape = batch_shape + angles.shape + wl.shape
     batch = math.prod(batch_shape)
-    _check_work(wl.size * max(batch, 1) * max(angles.size, 1), len(media) - 1)
+    check_work(wl.size * max(batch, 1) * max(angles.size, 1), len(media) - 1)
     if batch == 0 or angles.size == 0:
         empty = np.empty(out_shape)
         return Spectrum(wavelength_nm=wl, angle_deg=angles, polarization=pol, R=empty,
@@ -258,7 +259,7 @@ def compute_indices(indices, thickness_nm, wavelength_nm, *, incoherent=None, an
     table = [None] + [_column(a, batch_shape, batch) for a in arrays] + [None]
     flags = [False] + incoherent + [False]
     indices[0] = _incident_index("the incident medium", indices[0], angles, wl)
-    _check_work(wl.size * max(batch, 1) * max(angles.size, 1), len(indices) - 1)
+    check_work(wl.size * max(batch, 1) * max(angles.size, 1), len(indices) - 1)
     R, T = _solve(indices, table, flags, wl, angles.reshape(-1), pol)
     _check_result(R, T, wl)
     shape = batch_shape + angles.shape + wl.shape
@@ -295,13 +296,32 @@ def _check_thickness_values(values) -> None:
         raise FilmopticError(f"a thickness of {np.max(values):g} nm is over 1 m; thicknesses are in nm")
 
 
-def _check_work(points: int, interfaces: int) -> None:
-    """Refuse at once a calculation too large to answer within seconds (:data:`filmoptic.limits.WORK`)."""
+def interface_count(stack) -> int:
+    """How many interfaces light crosses in ``stack`` (ambient to exit medium): the engine's work
+    per grid point is proportional to it.
+
+    Examples
+    --------
+    >>> from filmoptic.stack import parse_stack
+    >>> interface_count(parse_stack("[n=2.3 55nm / n=1.46 92nm]x4 / n=1.52 1mm"))
+    10
+    """
+    return len(stack.layers) + (2 if stack.substrate.thickness_nm is not None else 1)
+
+
+def check_work(points: int, interfaces: int, request: str = "", fix: str = "") -> None:
+    """Refuse at once a calculation too large to answer within seconds.
+
+    The work is ``points × interfaces`` (grid points: wavelengths × thickness sets × angles), bounded
+    by :data:`filmoptic.limits.WORK`; :func:`compute` checks every call, and commands that split a
+    large job into several calls check the whole job first with this function.
+    """
     from filmoptic.limits import WORK
 
-    WORK.check(points * max(interfaces, 1),
-               f"{points:,} grid points (wavelengths × thickness sets × angles) × {interfaces} interfaces".replace(",", " "),
-               "use fewer wavelengths, thicknesses or layers")
+    points, interfaces = int(points), max(int(interfaces), 1)
+    request = request or (f"{points:,} grid points (wavelengths × thickness sets × angles) × "
+                          f"{interfaces} interfaces").replace(",", " ")
+    WORK.check(points * interfaces, request, fix or "use fewer wavelengths, thicknesses or layers")
 
 
 def _check_result(R, T, wl) -> None:

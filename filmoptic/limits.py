@@ -14,7 +14,7 @@ limit                         environment variable        what it bounds (defaul
                                                           (1 000 000)
 :data:`WORK`                  ``FILMOPTIC_MAX_WORK``      one calculation's grid points × interfaces:
                                                           wavelengths × thickness sets × angles × (layers + 1)
-                                                          (100 000 000: seconds, not minutes)
+                                                          (200 000 000: about ten seconds on one core)
 :data:`LAYERS`                ``FILMOPTIC_MAX_LAYERS``    layers a stack expands to, repeats included
                                                           (100 000; a repeat count alone at most 10 000)
 :data:`STACK_CHARACTERS`      ``FILMOPTIC_MAX_STACK``     characters in a written stack (1 000 000)
@@ -127,8 +127,9 @@ def _count(amount: float) -> str:
 
 #: Points of one wavelength, thickness or angle grid.
 GRID_POINTS = Limit("FILMOPTIC_MAX_POINTS", 1_000_000, "grid points")
-#: Grid points × interfaces of one calculation (wavelengths × thickness sets × angles × (layers + 1)).
-WORK = Limit("FILMOPTIC_MAX_WORK", 100_000_000, "grid points × interfaces")
+#: Grid points × interfaces of one calculation (wavelengths × thickness sets × angles × (layers + 1));
+#: a sweep, a solve's grid and a fit's global search and refinement each count as one.
+WORK = Limit("FILMOPTIC_MAX_WORK", 200_000_000, "grid points × interfaces")
 #: Layers a stack may expand to, repeat groups included.
 LAYERS = Limit("FILMOPTIC_MAX_LAYERS", 100_000, "layers")
 #: Largest repeat count of one group (more is a typo, not a coating).
