@@ -223,7 +223,14 @@ def main(argv=None) -> int:
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
-    """Warnings meant for the user (e.g. held end values with --extrapolate) as one line each."""
+    """Warnings meant for the user (e.g. held end values with --extrapolate) as one line each.
+
+    numpy's floating-point warnings ("overflow encountered in …") are not for the user: every
+    input is validated and every result checked before it is shown, so they carry no news, and
+    their text would read as a failure. ``FILMOPTIC_DEBUG=1`` shows them for developers.
+    """
+    if issubclass(category, RuntimeWarning) and not os.environ.get("FILMOPTIC_DEBUG"):
+        return
     click.echo(f"filmoptic: warning: {_one_line(message)}", err=True)
 
 
