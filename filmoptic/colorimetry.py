@@ -218,6 +218,23 @@ def _decimal_comma_hint(line: str) -> str:
             "(the decimal point is '.')")
 
 
+def _fast_two_columns(lines):
+    """(wavelengths, values) of a plain two-column file in one vectorised pass, or (None, None)
+    when some line needs the careful reading below (a word, a third column, a decimal comma)."""
+    from .files import numeric_rows
+
+    kept = [line for line in lines if line.strip() and not line.strip().startswith("#")]
+    if kept:
+        try:
+            float(_SEPARATORS.split(kept[0].strip())[0])
+        except ValueError:
+            kept = kept[1:]                       # the one column-title line allowed
+    table = numeric_rows([line.replace(",", " ").replace(";", " ") for line in kept])
+    if table is None or table.shape[1] != 2 or not np.all(np.isfinite(table)):
+        return None, None
+    return table[:, 0], table[:, 1]
+
+
 def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectrum:
     """Read a two-column text file: wavelength in nm, then a relative value.
 
@@ -253,7 +270,7 @@ def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectru
     [1.5]
     >>> os.unlink(fh.name)
     """
-    from .files import guard_input
+    from .files import check_row_count, guard_input
 
     p = guard_input(path, what)
     name = str(path)
@@ -268,9 +285,16 @@ def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectru
     except OSError as exc:
         raise DataFileError(f"{what} {name} cannot be read: {exc.strerror or exc}") from None
 
-    wavelengths, values = [], []
+    lines = text.splitlines()
+    check_row_count(len(lines), f"{what} {name}")
+    wavelengths, values = _fast_two_columns(lines)
+    if wavelengths is None:
+        wavelengths, values = [], []
+        careful = lines
+    else:
+        careful = ()
     header_seen = False
-    for number, raw in enumerate(text.splitlines(), start=1):
+    for number, raw in enumerate(careful, start=1):
         line = raw.strip()
         if not line or line.startswith("#"):
             continue

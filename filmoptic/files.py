@@ -60,6 +60,8 @@ __all__ = [
     "guard_input",
     "note_input",
     "read_json_input",
+    "numeric_rows",
+    "check_row_count",
     "note_input_folder",
     "input_conflict",
     "check_not_input",
@@ -199,6 +201,41 @@ def read_json_input(path, what: str = "JSON file"):
     except (ValueError, RecursionError) as exc:
         where = f" (line {exc.lineno})" if isinstance(exc, json.JSONDecodeError) else ""
         raise DataFileError(f"{what} {path} is not valid JSON{where}") from None
+
+
+def check_row_count(count: int, what: str) -> None:
+    """Refuse an input table with more rows than :data:`filmoptic.limits.FILE_ROWS`."""
+    from .limits import FILE_ROWS
+
+    FILE_ROWS.check(count, what, "give a shorter file", error=DataFileError)
+
+
+def numeric_rows(lines, delimiter=None, comments=None):
+    """Lines of plain numbers as a 2-D float array in one vectorised pass, or None.
+
+    None means some line is not plain numbers in a constant number of columns (a title line, a
+    word, a missing field): the caller then reads line by line to say which. Blank lines are
+    skipped; ``delimiter`` None splits on white space; ``comments`` starts a comment (e.g. ``#``).
+    Reading 100 000 rows this way takes milliseconds instead of the better part of a second.
+
+    Examples
+    --------
+    >>> numeric_rows(["400, 1.5", "500, 1.4"], ",").tolist()
+    [[400.0, 1.5], [500.0, 1.4]]
+    >>> numeric_rows(["wavelength, n", "400, 1.5"], ",") is None
+    True
+    """
+    import warnings
+
+    import numpy as np
+
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")     # numpy warns about an empty input
+            table = np.loadtxt(lines, delimiter=delimiter, comments=comments, ndmin=2, dtype=float)
+    except (ValueError, IndexError, TypeError):
+        return None
+    return table if table.size else None
 
 
 def note_input_folder(path) -> None:

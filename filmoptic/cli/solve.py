@@ -277,7 +277,7 @@ def _read_column(path: Path, column: str | None) -> _Column:
     from filmoptic.errors import DataFileError, FilmopticError
     from filmoptic.readings import parse_reading
 
-    from filmoptic.files import guard_input
+    from filmoptic.files import check_row_count, guard_input
 
     guard_input(path, "--readings")
     try:
@@ -297,7 +297,8 @@ def _read_column(path: Path, column: str | None) -> _Column:
         raise DataFileError(f"--readings {path}: cannot read it ({exc.__class__.__name__})") from None
     except csv.Error as exc:
         raise DataFileError(f"--readings {path}: not a readable CSV file ({exc})") from None
-    numbered = [(line, r) for line, r in numbered if any(cell.strip() for cell in r)]
+    numbered = [(line, r) for line, r in numbered if any(map(str.strip, r))]
+    check_row_count(len(numbered), f"--readings {path}")
     if len(numbered) < 2:
         raise DataFileError(f"--readings {path}: needs a header line and at least one row of readings")
     header = [h.strip() for h in numbered[0][1]]
@@ -311,6 +312,9 @@ def _read_column(path: Path, column: str | None) -> _Column:
         raise DataFileError(f"--readings {path}: no column {column!r} (columns: {', '.join(header)})")
     col = header.index(column)
     width = len(header)
+    fast = _plain_fractions(numbered[1:], col, width)
+    if fast is not None:
+        return _Column(header, [row for _, row in numbered[1:]], fast, {}, {})
     rows, values, notes, reasons = [], [], {}, {}
     for index, (line, row) in enumerate(numbered[1:]):
         value = math.nan
@@ -335,6 +339,22 @@ def _read_column(path: Path, column: str | None) -> _Column:
             f"row{'s' if len(rows) != 1 else ''}; first problem: {first})"
         )
     return _Column(header, rows, np.asarray(values, dtype=float), notes, reasons)
+
+
+def _plain_fractions(numbered, col, width):
+    """The column as an array when every row is complete and its reading a plain fraction in
+    [0, 1] (the usual file, read in one vectorised pass), else None (read row by row)."""
+    import numpy as np
+
+    if any(len(row) != width for _, row in numbered):
+        return None
+    try:
+        values = np.array([row[col] for _, row in numbered], dtype=float)
+    except ValueError:
+        return None
+    if not np.all(np.isfinite(values) & (values >= 0) & (values <= 1)):
+        return None
+    return values
 
 
 def _spread(result, good):

@@ -175,30 +175,11 @@ def read_header(path) -> dict:
 
 
 def _parse_rows(path) -> np.ndarray:
-    rows = []
+    from filmoptic.files import check_row_count
+
     try:
         with open(path, encoding="utf-8") as fh:
-            for lineno, line in enumerate(fh, 1):
-                stripped = line.split("#", 1)[0].strip()
-                if not stripped:
-                    continue
-                parts = [p for p in re.split(r"[,\s;]+", stripped) if p]
-                try:
-                    values = [float(p) for p in parts]
-                except ValueError:
-                    if not rows:  # a column-title line before the data is fine
-                        continue
-                    raise DataFileError(f"{path}, line {lineno}: expected numbers, got {stripped!r}") from None
-                if len(values) not in (2, 3):
-                    # "1,5" as a decimal comma splits into two columns.
-                    comma = "; write decimals with '.', not ','" if "," in stripped else ""
-                    raise DataFileError(
-                        f"{path}, line {lineno}: expected 2 or 3 columns (wavelength_nm n [k]), "
-                        f"got {len(values)}{comma}"
-                    )
-                if rows and len(values) != len(rows[0]):
-                    raise DataFileError(f"{path}, line {lineno}: every row needs the same number of columns")
-                rows.append(values)
+            lines = fh.read().splitlines()
     except FileNotFoundError:
         raise DataFileError(f"n,k file {path} does not exist") from None
     except IsADirectoryError:
@@ -207,12 +188,58 @@ def _parse_rows(path) -> np.ndarray:
         raise DataFileError(_NOT_TEXT.format(path=path)) from None
     except OSError as exc:
         raise DataFileError(f"cannot read n,k file {path}: {exc.strerror or exc}") from None
-    if not rows:
-        raise DataFileError(f"n,k file {path} has no rows of wavelength_nm n k")
-    table = np.array(rows, dtype=float)
+    check_row_count(len(lines), f"n,k file {path}")
+    table = _fast_table(lines)
+    if table is None:
+        table = _careful_table(lines, path)
     if table.shape[1] == 2:
         table = np.column_stack([table, np.zeros(len(table))])
     return table
+
+
+def _fast_table(lines):
+    """The rows in one vectorised pass (after any title lines), or None to read them carefully."""
+    from filmoptic.files import numeric_rows
+
+    start = 0
+    while start < len(lines) and start < 50:
+        first = re.split(r"[,\s;]+", lines[start].split("#", 1)[0].strip())[0]
+        try:
+            float(first)
+            break
+        except ValueError:
+            start += 1
+    table = numeric_rows([line.replace(",", " ").replace(";", " ") for line in lines[start:]], comments="#")
+    return table if table is not None and table.shape[1] in (2, 3) else None
+
+
+def _careful_table(lines, path) -> np.ndarray:
+    """Line by line, saying which line is wrong (the fast reading found something irregular)."""
+    rows = []
+    for lineno, line in enumerate(lines, 1):
+        stripped = line.split("#", 1)[0].strip()
+        if not stripped:
+            continue
+        parts = [p for p in re.split(r"[,\s;]+", stripped) if p]
+        try:
+            values = [float(p) for p in parts]
+        except ValueError:
+            if not rows:  # a column-title line before the data is fine
+                continue
+            raise DataFileError(f"{path}, line {lineno}: expected numbers, got {stripped[:80]!r}") from None
+        if len(values) not in (2, 3):
+            # "1,5" as a decimal comma splits into two columns.
+            comma = "; write decimals with '.', not ','" if "," in stripped else ""
+            raise DataFileError(
+                f"{path}, line {lineno}: expected 2 or 3 columns (wavelength_nm n [k]), "
+                f"got {len(values)}{comma}"
+            )
+        if rows and len(values) != len(rows[0]):
+            raise DataFileError(f"{path}, line {lineno}: every row needs the same number of columns")
+        rows.append(values)
+    if not rows:
+        raise DataFileError(f"n,k file {path} has no rows of wavelength_nm n k")
+    return np.array(rows, dtype=float)
 
 
 def header_range(header, fallback=None):
