@@ -23,6 +23,12 @@ limit                         environment variable        what it bounds (defaul
 :data:`JSON_DEPTH`            ``FILMOPTIC_MAX_DEPTH``     nesting of a JSON input (64; a solve file needs 4)
 ============================  ==========================  ===================================================
 
+The work limit is applied twice: each calculation is checked before it starts (refused at once
+when it alone is too large), and inside :func:`work_budget` (the command line runs every command
+in one) the work of all calculations of the command is added up, so that a job made of many
+small calculations (refining dozens of roots of a thousand-layer stack) stops with one line once
+it has done the limit's worth of work, instead of running for minutes.
+
 Numbers are also bounded where they are read: a number written with more than
 :data:`NUMBER_CHARACTERS` characters is refused (no measured or designed value needs them, and
 turning a 100 000-digit string into a number is slow).
@@ -36,8 +42,10 @@ True
 
 from __future__ import annotations
 
+import contextvars
 import math
 import os
+from contextlib import contextmanager
 from dataclasses import dataclass
 
 from .errors import FilmopticError
@@ -55,6 +63,8 @@ __all__ = [
     "NUMBER_CHARACTERS",
     "ALL_LIMITS",
     "check_number_text",
+    "work_budget",
+    "charge_work",
 ]
 
 
@@ -164,4 +174,42 @@ def check_number_text(text: str, what: str) -> None:
         raise FilmopticError(
             f"{what}: a number written with {len(text)} characters is not a measurement or a design "
             f"value (at most {NUMBER_CHARACTERS})"
+        )
+
+
+_SPENT = contextvars.ContextVar("filmoptic_work", default=None)
+
+
+@contextmanager
+def work_budget():
+    """Add up the work of every calculation inside the block (:func:`charge_work`) and stop the
+    block once it passes :data:`WORK`. Blocks may nest: an inner one shares the outer budget."""
+    if _SPENT.get() is not None:
+        yield
+        return
+    token = _SPENT.set([0.0])
+    try:
+        yield
+    finally:
+        _SPENT.reset(token)
+
+
+def charge_work(amount: float) -> None:
+    """Count ``amount`` of work (grid points × interfaces) against the current :func:`work_budget`.
+
+    Raises
+    ------
+    FilmopticError
+        When the block's total passes :data:`WORK`, naming the variable that raises it.
+    """
+    spent = _SPENT.get()
+    if spent is None:
+        return
+    spent[0] += amount
+    limit = WORK.value()
+    if spent[0] > limit:
+        raise FilmopticError(
+            f"stopped after {_count(spent[0])} grid points × interfaces of work, the limit for one "
+            f"command ({_count(limit)}): ask for less (fewer layers, wavelengths, thicknesses or "
+            f"solutions), or set {WORK.variable} to raise it"
         )

@@ -215,9 +215,10 @@ def main(argv=None) -> int:
     traceback of an unexpected error.
     """
     from filmoptic.files import input_guard
+    from filmoptic.limits import work_budget
 
     args = sys.argv[1:] if argv is None else list(argv)
-    with warnings.catch_warnings(), input_guard():
+    with warnings.catch_warnings(), input_guard(), work_budget():
         warnings.showwarning = _show_warning
         return _run(args)
 
