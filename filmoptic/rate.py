@@ -178,7 +178,8 @@ def thickness_from_solve_file(path, index: int | None = None) -> tuple[float, fl
     data = read_json_input(path, "solve file")
     not_solve = f"{path}: not a 'filmoptic solve --json' output with at least one solution"
     solutions = data.get("solutions") if isinstance(data, dict) else None
-    if not isinstance(solutions, list) or not solutions:
+    if (not isinstance(solutions, list) or not solutions
+            or not all(isinstance(s, dict) and "thickness_nm" in s for s in solutions)):
         raise DataFileError(not_solve)
     count = len(solutions)
     if index is None and count > 1:
@@ -192,8 +193,6 @@ def thickness_from_solve_file(path, index: int | None = None) -> tuple[float, fl
             f"{path}#{index}: the file holds {count} solution{'s' if count != 1 else ''}; {choice}"
         )
     chosen = solutions[(index or 1) - 1]
-    if not isinstance(chosen, dict) or "thickness_nm" not in chosen:
-        raise DataFileError(not_solve)
     thickness = _solve_file_number(chosen["thickness_nm"], "thickness_nm", path)
     if thickness is None or thickness > MAX_THICKNESS_NM:
         raise DataFileError(f"{path}: the chosen solution's thickness_nm is not a valid thickness")
