@@ -430,7 +430,8 @@ def judge(case: Case, code, stdout: str, stderr: str, before: dict, after: dict)
     kinds = []
     # The inputs: files the command line names (a mutation may have dropped a name) and the
     # user library; every one must be left as it was.
-    line = " ".join(case.args)
+    line = " ".join(a for i, a in enumerate(case.args)
+                    if not (i and case.args[i - 1] in ("--csv", "--plot", "--swatch", "--chart", "--out")))
     inputs = [name for name in before if name in line or ("FILMOPTIC_NKDATA" in case.env and name.startswith("lib/"))]
     changed = [name for name in inputs if after.get(name) != before[name]]
     if changed:
