@@ -67,6 +67,7 @@ import numpy as np
 
 from .errors import DataFileError, FilmopticError, WavelengthRangeError
 from .materials.tables import check_wavelength_column
+from .units import check_angles_deg
 
 __all__ = [
     "VISIBLE_RANGE_NM",
@@ -1077,8 +1078,7 @@ def appearance(stack, *, illuminant="D65", observer=2, angle_deg=0.0, ambient=No
     label = check_illuminant(illuminant)
     wl = default_wavelengths() if wavelength_nm is None else _as_grid(wavelength_nm)
     angles = np.asarray(angle_deg, dtype=float)
-    if np.any(angles < 0) or np.any(angles >= 90):
-        raise FilmopticError("angles of incidence must lie in [0, 90) degrees")
+    check_angles_deg(angles)
     angle_arg = float(angles) if angles.ndim == 0 else angles
 
     front = compute(stack, wl, angle_deg=angle_arg, polarization="unpolarized", extrapolate=extrapolate)
@@ -1245,8 +1245,7 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
                f"sweeping {d.size} thicknesses × {wl.size} wavelengths × {interface_count(stack)} interfaces",
                "use a larger step or a shorter range")
     angle = float(angle_deg)
-    if not 0 <= angle < 90:
-        raise FilmopticError("the angle of incidence must lie in [0, 90) degrees")
+    check_angles_deg(angle)
 
     xyz_w = tristimulus_weights(wl, illuminant, obs)
     lum_w = luminous_weights(wl, illuminant)

@@ -109,7 +109,7 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
     wavelength_nm : float or array_like
         Vacuum wavelengths in nm, 1-D.
     angle_deg : float or array_like, optional
-        Angle(s) of incidence in degrees, in ``[0, 90)``, in the medium the light comes from
+        Angle(s) of incidence in degrees, 0 to 89.999, in the medium the light comes from
         (the ambient, or with ``reverse=True`` the medium on the substrate side). Any shape.
     polarization : {"s", "p", "unpolarized"}, optional
         ``"unpolarized"`` averages the s and p results.
@@ -365,8 +365,9 @@ def _check_angles(angle_deg) -> np.ndarray:
         angles = np.asarray(angle_deg, dtype=float)
     except (TypeError, ValueError):
         raise FilmopticError(f"angle of incidence must be a number of degrees, got {angle_deg!r}") from None
-    if not np.all(np.isfinite(angles)) or np.any(angles < 0) or np.any(angles >= 90):
-        raise FilmopticError("angle of incidence must lie in [0, 90) degrees")
+    from filmoptic.units import check_angles_deg
+
+    check_angles_deg(angles)
     return angles
 
 

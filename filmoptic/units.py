@@ -28,6 +28,8 @@ __all__ = [
     "WAVELENGTH_RANGE_NM",
     "MIN_DURATION_S",
     "MAX_DURATION_S",
+    "MAX_ANGLE_DEG",
+    "check_angles_deg",
 ]
 
 #: Length units accepted everywhere, in nanometres.
@@ -48,6 +50,10 @@ WAVELENGTH_RANGE_NM = (1.0, 1e6)
 MAX_DURATION_S = 1e7
 #: … or shorter than a millisecond (no shutter opens and closes that fast).
 MIN_DURATION_S = 1e-3
+#: Largest angle of incidence, degrees from the normal. Closer to grazing than 0.001° is no
+#: measurement (a beam diverges more than that), and there the intensity sums of a thick slab
+#: meet 1 − R·R' = 0 in floating point.
+MAX_ANGLE_DEG = 89.999
 # Units a wavelength may carry in a grid or list (the bare number means nm).
 _WAVELENGTH_UNIT_RE = re.compile(r"^(.*?)\s*(nm|um|µm|μm)$")
 
@@ -272,6 +278,25 @@ def parse_angles_deg(text: str, what: str = "--angles") -> np.ndarray:
         values = _grid(*(degrees(p) for p in parts), what)
     else:
         values = np.array([degrees(p) for p in s.split(",")], dtype=float)
-    if np.any(values < 0) or np.any(values >= 90):
-        raise FilmopticError(f"{what}: angles of incidence must lie in [0, 90) degrees, got {text!r}")
+    check_angles_deg(values, what, text)
     return values
+
+
+def check_angles_deg(values, what: str = "angle of incidence", text=None) -> None:
+    """Refuse angles of incidence outside 0 to :data:`MAX_ANGLE_DEG` degrees (or not finite).
+
+    Examples
+    --------
+    >>> check_angles_deg([0.0, 45.0, 89.999])
+    >>> check_angles_deg(90.0)
+    Traceback (most recent call last):
+    ...
+    filmoptic.errors.FilmopticError: angle of incidence: angles of incidence must lie between 0 and 89.999 degrees from the normal, got 90
+    """
+    values = np.asarray(values, dtype=float)
+    if not np.all(np.isfinite(values)) or np.any(values < 0) or np.any(values > MAX_ANGLE_DEG):
+        shown = text if text is not None else ", ".join(f"{v:g}" for v in np.ravel(values)[:5])
+        raise FilmopticError(
+            f"{what}: angles of incidence must lie between 0 and {MAX_ANGLE_DEG:g} degrees from the "
+            f"normal, got {shown}"
+        )

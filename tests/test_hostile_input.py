@@ -376,6 +376,19 @@ def test_metals_with_a_small_n_are_kept(run_cli):
     assert 0.9 < R <= 1.0
 
 
+def test_grazing_incidence_is_bounded(run_cli):
+    # At 0.001° from grazing a thick slab still gives proper fractions, R close to 1 (Fresnel's
+    # reflectance tends to 1 at grazing incidence: Born & Wolf, Principles of Optics, §1.5.3;
+    # common practice); closer than that is refused rather than computed as 1 − R·R' = 0.
+    result = run_cli(["spectrum", "TiO2 92nm / glass 3mm", "--angle", "89.999", "--wl", "400:900:10", "--json"])
+    assert result.exit_code == 0, result.stderr
+    answer = json.loads(result.stdout)
+    assert all(0.999 < r <= 1.0 for r in answer["R"])
+    assert all(0.0 <= t < 1e-3 for t in answer["T"])
+    assert_user_error(run_cli(["spectrum", "TiO2 92nm / glass 3mm", "--angle", "89.9999999"]), "89.999")
+    assert_user_error(run_cli(["color", "TiO2 92nm / glass 3mm", "--angles", "0,89.9999999"]), "89.999")
+
+
 def test_the_engine_checks_its_result_as_a_last_guard():
     from filmoptic.engine import _check_result
 

@@ -56,7 +56,7 @@ ambient_option = click.option(
 
 
 class AngleType(click.ParamType):
-    """An angle of incidence in degrees, 0 to under 90; ``45``, ``45°`` and ``45deg`` all read."""
+    """An angle of incidence in degrees, 0 to 89.999; ``45``, ``45°`` and ``45deg`` all read."""
 
     name = "DEG"
 
@@ -65,7 +65,7 @@ class AngleType(click.ParamType):
             return float(value)
         import re
 
-        from filmoptic.units import parse_number
+        from filmoptic.units import MAX_ANGLE_DEG, parse_number
 
         text = re.sub(r"\s*(°|deg|degrees?)$", "", str(value).strip(), flags=re.IGNORECASE)
         what = f"--{param.name}" if param else "angle"
@@ -73,17 +73,17 @@ class AngleType(click.ParamType):
             angle = parse_number(text, what)
         except FilmopticError as exc:
             raise click.UsageError(f"{exc} (degrees from the normal, e.g. 45)") from None
-        if not 0 <= angle < 90:
+        if not 0 <= angle <= MAX_ANGLE_DEG:
             raise click.UsageError(
-                f"{what}: the angle of incidence must lie in 0 to under 90 degrees from the normal, "
-                f"got {value}"
+                f"{what}: the angle of incidence must lie between 0 and {MAX_ANGLE_DEG:g} degrees from "
+                f"the normal, got {value}"
             )
         return angle
 
 
 angle_option = click.option(
     "--angle", type=AngleType(), default=0.0, show_default=True, metavar="DEG",
-    help="Angle of incidence in the ambient, degrees from the normal (0 to under 90).",
+    help="Angle of incidence in the ambient, degrees from the normal (0 to 89.999).",
 )
 extrapolate_option = click.option(
     "--extrapolate", is_flag=True,
