@@ -15,8 +15,8 @@ Inputs
     :func:`note_input_folder`.
 
 The one rule
-    No output replaces an input of the same run, and no output is written into a folder the run
-    reads as a whole. Files are compared by identity (device and inode, as
+    No output replaces an input of the same run, and no output becomes one of the files of a folder
+    the run reads as a whole (a ``*.txt`` or ``*.nk`` file in a library folder). Files are compared by identity (device and inode, as
     :func:`os.path.samefile` does) and by resolved real path, so no spelling (``./x``, ``sub/../x``,
     another letter case on a case-insensitive disk, a symbolic or hard link) gets around it.
     :func:`check_not_input` applies the rule; :func:`write_atomically` and
@@ -77,7 +77,7 @@ class _Inputs:
     """What one run has read: files and whole folders, by identity and by real path."""
 
     files: dict = field(default_factory=dict)       # (st_dev, st_ino) or real path -> as written
-    folders: dict = field(default_factory=dict)
+    folders: dict = field(default_factory=dict)     # same keys -> (as written, suffixes read)
 
 
 _CURRENT = contextvars.ContextVar("filmoptic_inputs", default=None)
@@ -238,12 +238,14 @@ def numeric_rows(lines, delimiter=None, comments=None):
     return table if table.size else None
 
 
-def note_input_folder(path) -> None:
-    """Record a folder whose files the current run reads (no output may be written into it)."""
+def note_input_folder(path, suffixes=(".txt", ".nk")) -> None:
+    """Record a folder whose files named ``*.SUFFIX`` (any letter case, not hidden) the current
+    run reads as a whole, as the library reads its folders: no output of such a name may be
+    written into it, since the next run would read it as one of the folder's files."""
     inputs = _CURRENT.get()
     if inputs is not None and os.path.isdir(os.path.expanduser(str(path))):
         for key in _keys(path):
-            inputs.folders.setdefault(key, str(path))
+            inputs.folders.setdefault(key, (str(path), tuple(s.lower() for s in suffixes)))
 
 
 def same_file(a, b) -> bool:
@@ -258,7 +260,7 @@ def input_conflict(path) -> str | None:
     """Why writing ``path`` would replace an input of the current run, or None.
 
     An output conflicts when it is one of the run's input files (same device and inode, or the
-    same resolved real path) or lies directly in a folder the run reads as a whole.
+    same resolved real path) or would be one of the files of a folder the run reads as a whole.
     """
     inputs = _CURRENT.get()
     if inputs is None:
@@ -266,11 +268,14 @@ def input_conflict(path) -> str | None:
     for key in _keys(path):
         if key in inputs.files:
             return f"it is an input of this run ({inputs.files[key]})"
-    folder = os.path.dirname(os.path.abspath(os.path.expanduser(str(path))))
-    for key in _keys(folder):
+    full = os.path.abspath(os.path.expanduser(str(path)))
+    name = os.path.basename(full)
+    for key in _keys(os.path.dirname(full)):
         if key in inputs.folders:
-            return (f"it lies in {inputs.folders[key]}, a folder this run reads as a whole "
-                    "(the user library)")
+            folder, suffixes = inputs.folders[key]
+            if name.lower().endswith(suffixes) and not name.startswith("."):
+                return (f"it would become one of the tables of {folder}, a library folder this run "
+                        f"reads (every {'/'.join(suffixes)} file there is read)")
     return None
 
 

@@ -258,6 +258,13 @@ def parameter_bounds(stack) -> tuple[np.ndarray, np.ndarray, list[str]]:
             )
         if not hi > lo:
             raise FilmopticError(f"{p.name}: the range {lo:g}..{hi:g} is empty; write LOW..HIGH with LOW < HIGH")
+        if hi - lo <= 1e-9 * max(abs(lo), abs(hi)):
+            # The fit's scales and steps are fractions of the range: a range one rounding step
+            # wide fixes the value rather than frees it.
+            raise FilmopticError(
+                f"{p.name}: the range {lo:.12g}..{hi:.12g} is narrower than a part in a billion, "
+                "which fixes the value; write the number itself, or a wider LOW..HIGH"
+            )
         lows.append(lo)
         highs.append(hi)
         units.append(unit)

@@ -212,9 +212,12 @@ def _check_run(args, folder: Path, before: dict):
                    for line in lines), (args, result.stderr)
         if "--json" in args:
             _check_ranges(json.loads(result.stdout))
-    # No input changed: every file that existed before the run is as it was.
+    # No input changed: every file that existed before the run is as it was, and no table joined
+    # the user library.
     after = _digest(folder)
     assert {k: after.get(k) for k in before} == before, (args, result.stderr)
+    assert not [k for k in after if k not in before and k.startswith("lib/")
+                and k.lower().endswith((".txt", ".nk"))], (args, result.stderr)
     return result
 
 
@@ -231,7 +234,7 @@ def _output(draw, files, suffix):
         name = draw(st.sampled_from(sorted(files)))
         return draw(st.sampled_from([name, f"./{name}", f"sub/../{name}"]))
     if choice == "library":
-        return f"lib/out{suffix}"
+        return f"lib/out{draw(st.sampled_from([suffix, '.txt', '.NK']))}"
     return f"out{suffix}"
 
 

@@ -87,15 +87,26 @@ def _library(folder):
     return folder
 
 
-@pytest.mark.parametrize("output", ["lib/new.csv", "lib/Mine__A.txt"])
-def test_nothing_is_written_into_the_user_library_folder(run_cli, in_tmp, monkeypatch, output):
-    # Every file in that folder is part of the library the next run reads.
+@pytest.mark.parametrize("output", ["lib/new.txt", "lib/NEW.NK", "lib/Mine__A.txt", "lib/../lib/x.txt"])
+def test_no_output_lands_among_the_user_library_tables(run_cli, in_tmp, monkeypatch, output):
+    # Every .txt or .nk file in that folder is part of the library the next run reads: a table
+    # written there as "new.txt" would break every later command.
     _library(in_tmp / "lib")
     monkeypatch.setenv("FILMOPTIC_NKDATA", str(in_tmp / "lib"))
     before = _digest(in_tmp / "lib")
     result = run_cli(["spectrum", "Mine 100nm / glass", "--wl", "550", "--csv", output])
-    assert_user_error(result, "lib")
+    assert_user_error(result, "library")
     assert _digest(in_tmp / "lib") == before
+
+
+def test_other_files_may_sit_beside_the_library_tables(run_cli, in_tmp, monkeypatch):
+    # A folder of one's own tables is often the project folder: a plot or a .csv there is no table.
+    _library(in_tmp / "lib")
+    monkeypatch.setenv("FILMOPTIC_NKDATA", str(in_tmp / "lib"))
+    before = _digest(in_tmp / "lib")
+    result = run_cli(["spectrum", "Mine 100nm / glass", "--wl", "550", "--csv", "lib/result.csv"])
+    assert result.exit_code == 0, result.stderr
+    assert {k: v for k, v in _digest(in_tmp / "lib").items() if k != "result.csv"} == before
 
 
 def test_a_fit_plot_naming_the_nk_file_it_read_is_refused(run_cli, in_tmp):
@@ -227,12 +238,18 @@ def test_a_bad_value_of_a_limit_variable_is_one_line(run_cli, monkeypatch):
     assert_user_error(run_cli(["spectrum", STACK, "--wl", "400:700:1"]), "FILMOPTIC_MAX_POINTS", "lots")
 
 
+def test_a_fit_whose_coefficient_range_collapses(run_cli, in_tmp):
+    # A range one rounding step wide fixes the value rather than frees it.
+    _measured(in_tmp / "T.csv")
+    result = run_cli(["fit", "n=1.5..1.5000000000000002 10..20nm / glass 1mm", "--measured", "T.csv"])
+    assert_user_error(result, "index n (layer 1)", "part in a billion")
+
+
 @pytest.mark.parametrize("model", [
-    "n=1.5..1.5000000000000002 10..20nm / glass 1mm",   # a coefficient range one rounding step wide
     "TiO2 0..1e-300nm / glass 1mm",                     # a thickness range of nothing
     "TiO2 0..1e9nm / glass 1mm",                        # a metre of range
 ])
-def test_a_fit_whose_range_collapses_or_explodes(run_cli, in_tmp, model):
+def test_a_fit_whose_range_is_tiny_or_huge(run_cli, in_tmp, model):
     _measured(in_tmp / "T.csv")
     result = run_cli(["fit", model, "--measured", "T.csv", "--max-grid", "200", "--starts", "1", "--json"])
     assert result.exit_code in (0, 2), result.stderr

@@ -260,7 +260,8 @@ def _output(rng, case, suffix) -> str:
         name = _pick(rng, existing)
         return _pick(rng, [name, "./" + name, os.path.join("..", "work", name), "sub/../" + name])
     if "lib" in case.env.values() and roll < 0.5:
-        return "lib/out" + suffix
+        # A table-like name would become part of the library: it must be refused.
+        return "lib/out" + _pick(rng, [suffix, ".txt", ".nk"], 3)
     return "out" + suffix
 
 
@@ -434,6 +435,9 @@ def judge(case: Case, code, stdout: str, stderr: str, before: dict, after: dict)
                     if not (i and case.args[i - 1] in ("--csv", "--plot", "--swatch", "--chart", "--out")))
     inputs = [name for name in before if name in line or ("FILMOPTIC_NKDATA" in case.env and name.startswith("lib/"))]
     changed = [name for name in inputs if after.get(name) != before[name]]
+    # Nothing new may join the user library's tables (it would be read by every later run).
+    changed += [name for name in after if name not in before and name.startswith("lib/")
+                and name.lower().endswith((".txt", ".nk"))]
     if changed:
         kinds.append(("overwrote an input", ", ".join(changed)))
     if code == "timeout":

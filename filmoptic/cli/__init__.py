@@ -72,8 +72,8 @@ def _input_candidates(text):
 def check_arguments(command, args) -> None:
     """Refuse what click would let through silently: an option given twice (the first value
     would be dropped), both sides of an on/off switch, an empty output name, and an output
-    file that is one of the command's own inputs (or another output) or lies in the user library
-    folder.
+    file that is one of the command's own inputs (or another output) or would become a table of
+    the user library folder.
 
     Existing files named on the command line are recorded as inputs of the run
     (:func:`filmoptic.files.note_input`), so the same rule is applied again when an output is
@@ -137,7 +137,7 @@ def check_arguments(command, args) -> None:
                     note_input(candidate)
         library = os.environ.get("FILMOPTIC_NKDATA", "").strip()
         if library:
-            note_input_folder(library)
+            note_input_folder(library)      # the library reads its *.txt and *.nk files
         for index, (option, path) in enumerate(outputs):
             for other_option, other in outputs[:index]:
                 if same_file(path, other) or os.path.abspath(path) == os.path.abspath(other):

@@ -69,7 +69,7 @@ def _index():
     # Every file in the library folders is an input of the run: no output may land among them.
     for folder in (shipped_folder(), user_folder):
         if folder is not None:
-            note_input_folder(folder)
+            note_input_folder(folder, tuple(sorted(_SUFFIXES)))
     stamp = _folder_stamp(user_folder) if user_folder else 0
     return _build_index(str(shipped_folder()), str(user_folder) if user_folder else "", stamp)
 
