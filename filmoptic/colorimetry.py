@@ -67,6 +67,7 @@ import numpy as np
 
 from .errors import DataFileError, FilmopticError, WavelengthRangeError
 from .materials.tables import check_wavelength_column
+from .units import check_angles_deg
 
 __all__ = [
     "VISIBLE_RANGE_NM",
@@ -221,6 +222,23 @@ def _decimal_comma_hint(line: str) -> str:
             "(the decimal point is '.')")
 
 
+def _fast_two_columns(lines):
+    """(wavelengths, values) of a plain two-column file in one vectorised pass, or (None, None)
+    when some line needs the careful reading below (a word, a third column, a decimal comma)."""
+    from .files import numeric_rows
+
+    kept = [line for line in lines if line.strip() and not line.strip().startswith("#")]
+    if kept:
+        try:
+            float(_SEPARATORS.split(kept[0].strip())[0])
+        except ValueError:
+            kept = kept[1:]                       # the one column-title line allowed
+    table = numeric_rows([line.replace(",", " ").replace(";", " ") for line in kept])
+    if table is None or table.shape[1] != 2 or not np.all(np.isfinite(table)):
+        return None, None
+    return table[:, 0], table[:, 1]
+
+
 def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectrum:
     """Read a two-column text file: wavelength in nm, then a relative value.
 
@@ -256,7 +274,9 @@ def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectru
     [1.5]
     >>> os.unlink(fh.name)
     """
-    p = Path(path)
+    from .files import check_row_count, guard_input
+
+    p = guard_input(path, what)
     name = str(path)
     if not p.exists():
         raise DataFileError(f"{what} {name}: no such file")
@@ -269,17 +289,27 @@ def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectru
     except OSError as exc:
         raise DataFileError(f"{what} {name} cannot be read: {exc.strerror or exc}") from None
 
-    wavelengths, values = [], []
+    lines = text.splitlines()
+    check_row_count(len(lines), f"{what} {name}")
+    wavelengths, values = _fast_two_columns(lines)
     header_seen = False
     separator = None
-    for number, raw in enumerate(text.splitlines(), start=1):
+    if wavelengths is None:
+        wavelengths, values = [], []
+        careful = lines
+    else:
+        careful = ()
+        # For the note on how the file was read: the vectorised pass reads every separator alike.
+        data = [line for line in lines if line.strip() and not line.strip().startswith("#")]
+        header_seen = _is_title([f for f in _SEPARATORS.split(data[0].strip()) if f])
+        separator = _separator_name(data[1 if header_seen else 0])
+    for number, raw in enumerate(careful, start=1):
         line = raw.strip()
         if not line or line.startswith("#"):
             continue
         fields = [f for f in _SEPARATORS.split(line) if f]
         if separator is None and wavelengths == [] and not _is_title(fields):
-            separator = next((name for mark, name in ((";", "semicolons"), (",", "commas"), ("\t", "tabs"))
-                              if mark in raw), "spaces")
+            separator = _separator_name(raw)
         try:
             numbers = [float(f) for f in fields]
         except ValueError:
@@ -323,6 +353,11 @@ def read_spectrum_file(path, *, what: str = "spectrum file") -> TabulatedSpectru
            + ("; a column-title line skipped" if header_seen else "")
            + ("; rows given from long to short wavelengths, reversed" if descending else ""))
     return TabulatedSpectrum(wl, val, name, how)
+
+
+def _separator_name(line: str) -> str:
+    return next((name for mark, name in ((";", "semicolons"), (",", "commas"), ("\t", "tabs"))
+                 if mark in line), "spaces")
 
 
 def _is_title(fields) -> bool:
@@ -389,9 +424,7 @@ def check_illuminant(illuminant) -> str:
         return illuminant.source
     kind, key = _illuminant_key(illuminant)
     if kind == "file":
-        from .notes import note_file
-
-        note_file(key, _file_spectrum(key, _mtime(key)).how_read)
+        _illuminant_file(key)
         return key
     return illuminant_label(illuminant)
 
@@ -411,6 +444,18 @@ def _mtime(path: str) -> float:
         return os.stat(path).st_mtime
     except OSError:
         return -1.0
+
+
+def _illuminant_file(path: str) -> TabulatedSpectrum:
+    """An illuminant file's table, cached while the file is unchanged (recorded as an input of
+    the run, and noted with how it was read, on every use, cached or not)."""
+    from .files import guard_input
+    from .notes import note_file
+
+    guard_input(path, "illuminant file")
+    table = _file_spectrum(path, _mtime(path))
+    note_file(path, table.how_read)
+    return table
 
 
 @lru_cache(maxsize=32)
@@ -462,11 +507,7 @@ def illuminant_table(illuminant) -> TabulatedSpectrum:
         return illuminant
     kind, key = _illuminant_key(illuminant)
     if kind == "file":
-        from .notes import note_file
-
-        table = _file_spectrum(key, _mtime(key))
-        note_file(key, table.how_read)
-        return table
+        return _illuminant_file(key)
     wl, values = _cie_table(key)
     return TabulatedSpectrum(wl, values, f"CIE illuminant {illuminant_label(illuminant)}")
 
@@ -1078,8 +1119,7 @@ def appearance(stack, *, illuminant="D65", observer=2, angle_deg=0.0, ambient=No
     label = check_illuminant(illuminant)
     wl = default_wavelengths() if wavelength_nm is None else _as_grid(wavelength_nm)
     angles = np.asarray(angle_deg, dtype=float)
-    if np.any(angles < 0) or np.any(angles >= 90):
-        raise FilmopticError("angles of incidence must lie in [0, 90) degrees")
+    check_angles_deg(angles)
     angle_arg = float(angles) if angles.ndim == 0 else angles
 
     front = compute(stack, wl, angle_deg=angle_arg, polarization="unpolarized", extrapolate=extrapolate)
@@ -1241,7 +1281,7 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
     ----------
     CIE 15:2018; ISO 9050:2003; Macleod, *Thin-Film Optical Filters*, ch. 2 (the engine).
     """
-    from .engine import compute
+    from .engine import check_work, compute, interface_count
 
     stack = _stack_from(stack, ambient)
     _free_thickness_index(stack)
@@ -1254,9 +1294,11 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
     if not np.all(np.isfinite(d)) or np.any(d < 0):
         raise FilmopticError("sweep thicknesses must be finite and not negative")
     _check_inside_bounds(stack, d)
+    check_work(d.size * wl.size, interface_count(stack),
+               f"sweeping {d.size} thicknesses × {wl.size} wavelengths × {interface_count(stack)} interfaces",
+               "use a larger step or a shorter range")
     angle = float(angle_deg)
-    if not 0 <= angle < 90:
-        raise FilmopticError("the angle of incidence must lie in [0, 90) degrees")
+    check_angles_deg(angle)
 
     xyz_w = tristimulus_weights(wl, illuminant, obs)
     lum_w = luminous_weights(wl, illuminant)

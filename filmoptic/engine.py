@@ -47,7 +47,7 @@ import numpy as np
 from filmoptic.errors import FilmopticError
 
 __all__ = ["Spectrum", "POLARIZATIONS", "TRANSMISSION_MEANINGS", "compute", "compute_indices",
-           "CHUNK_BYTES"]
+           "CHUNK_BYTES", "interface_count", "check_work"]
 
 #: The polarisation names :func:`compute` accepts.
 POLARIZATIONS = ("s", "p", "unpolarized")
@@ -136,7 +136,7 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
     wavelength_nm : float or array_like
         Vacuum wavelengths in nm, 1-D.
     angle_deg : float or array_like, optional
-        Angle(s) of incidence in degrees, in ``[0, 90)``, in the medium the light comes from
+        Angle(s) of incidence in degrees, 0 to 89.999, in the medium the light comes from
         (the ambient, or with ``reverse=True`` the medium on the substrate side). Any shape.
     polarization : {"s", "p", "unpolarized"}, optional
         ``"unpolarized"`` averages the s and p results.
@@ -200,11 +200,13 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
         table = table[::-1]
         incoherent = incoherent[::-1]
         media = media[::-1]
-    indices[0] = _incident_index(media[0], indices[0], angles)
+    indices[0] = _incident_index(media[0], indices[0], angles, wl)
     transmission, substrate_slab = _substrate_role(indices, half_space, reverse)
 
     out_shape = batch_shape + angles.shape + wl.shape
     batch = math.prod(batch_shape)
+    check_work(wl.size * max(batch, 1) * max(angles.size, 1), len(media) - 1)
+    _charge(wl.size * max(batch, 1) * max(angles.size, 1), len(media) - 1)
     if batch == 0 or angles.size == 0:
         empty = np.empty(out_shape)
         return Spectrum(wavelength_nm=wl, angle_deg=angles, polarization=pol, R=empty,
@@ -220,6 +222,7 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
             A_slab = np.repeat(A_slab, batch, axis=0)
     R = R.reshape(out_shape)
     T = T.reshape(out_shape)
+    _check_result(R, T, wl)
     if transmission == "opaque":
         # Everything that enters an absorbing half-space stays there.
         A_substrate, T = T, np.zeros(out_shape)
@@ -305,6 +308,10 @@ def compute_indices(indices, thickness_nm, wavelength_nm, *, incoherent=None, an
         raise FilmopticError(f"each index must be a number or have one value per wavelength ({wl.size})") from None
     if any(np.any(N.imag < 0) or np.any(N.real <= 0) or not np.all(np.isfinite(N)) for N in indices):
         raise FilmopticError("indices are written N = n + i·k with n > 0 and k >= 0")
+    from filmoptic.materials.base import check_index
+
+    for position, N in enumerate(indices):
+        check_index(N, f"index {position + 1}", wl)
     if len(indices) < 2:
         raise FilmopticError("a stack needs at least an incident and an exit medium")
     inner = len(indices) - 2
@@ -316,14 +323,15 @@ def compute_indices(indices, thickness_nm, wavelength_nm, *, incoherent=None, an
     arrays = [np.asarray(d, dtype=float) for d in thickness_nm]
     batch_shape = np.broadcast_shapes(*(a.shape for a in arrays)) if arrays else ()
     for a in arrays:
-        if not np.all(np.isfinite(a)) or np.any(a < 0):
-            raise FilmopticError("thicknesses must be finite and not negative")
+        _check_thickness_values(a)
     batch = int(np.prod(batch_shape, dtype=np.int64))
     table = [None] + [_column(a, batch_shape, batch) for a in arrays] + [None]
     flags = [False] + incoherent + [False]
-    if np.any(np.abs(indices[0].imag) > 0) and np.any(angles > 0):
-        raise FilmopticError("an angle of incidence needs a non-absorbing incident medium")
+    indices[0] = _incident_index("the incident medium", indices[0], angles, wl)
+    check_work(wl.size * max(batch, 1) * max(angles.size, 1), len(indices) - 1)
+    _charge(wl.size * max(batch, 1) * max(angles.size, 1), len(indices) - 1)
     R, T, _ = _solve(indices, table, flags, wl, angles.reshape(-1), pol)
+    _check_result(R, T, wl)
     shape = batch_shape + angles.shape + wl.shape
     return R.reshape(shape), T.reshape(shape)
 
@@ -332,12 +340,85 @@ def compute_indices(indices, thickness_nm, wavelength_nm, *, incoherent=None, an
 # Input checks and assembly
 # ----------------------------------------------------------------------------------------------
 def _check_wavelengths(wavelength_nm) -> np.ndarray:
-    wl = np.atleast_1d(np.asarray(wavelength_nm, dtype=float))
+    from filmoptic.units import WAVELENGTH_RANGE_NM
+
+    try:
+        wl = np.atleast_1d(np.asarray(wavelength_nm, dtype=float))
+    except (TypeError, ValueError):
+        raise FilmopticError("wavelengths must be numbers of nm") from None
     if wl.ndim != 1 or wl.size == 0:
         raise FilmopticError("wavelengths must be a non-empty 1-D list of nm")
     if not np.all(np.isfinite(wl)) or np.any(wl <= 0):
         raise FilmopticError("wavelengths must be positive, finite numbers of nm")
+    lo, hi = WAVELENGTH_RANGE_NM
+    if np.any(wl < lo) or np.any(wl > hi):
+        raise FilmopticError(f"wavelengths must lie between {lo:g} nm and {hi:g} nm (1 mm)")
     return wl
+
+
+def _check_thickness_values(values) -> None:
+    """Thicknesses reaching the physics: finite, not negative, at most 1 m (as the parsers allow)."""
+    from filmoptic.units import MAX_LENGTH_NM
+
+    if not np.all(np.isfinite(values)) or np.any(values < 0):
+        raise FilmopticError("thicknesses must be finite and not negative")
+    if np.any(values > MAX_LENGTH_NM):
+        raise FilmopticError(f"a thickness of {np.max(values):g} nm is over 1 m; thicknesses are in nm")
+
+
+def interface_count(stack) -> int:
+    """How many interfaces light crosses in ``stack`` (ambient to exit medium): the engine's work
+    per grid point is proportional to it.
+
+    Examples
+    --------
+    >>> from filmoptic.stack import parse_stack
+    >>> interface_count(parse_stack("[n=2.3 55nm / n=1.46 92nm]x4 / n=1.52 1mm"))
+    10
+    """
+    return len(stack.layers) + (2 if stack.substrate.thickness_nm is not None else 1)
+
+
+# The fixed cost of one engine call per interface, counted in grid points (measured: about 50 µs
+# per layer against about 30 ns per layer and grid point): charged with every call, so that a job
+# of many small calls on a long stack is counted fairly.
+_CALL_POINTS = 2000
+
+
+def check_work(points: int, interfaces: int, request: str = "", fix: str = "") -> None:
+    """Refuse at once a calculation too large to answer within seconds.
+
+    The work is ``points × interfaces`` (grid points: wavelengths × thickness sets × angles), bounded
+    by :data:`filmoptic.limits.WORK`; :func:`compute` checks every call, and commands that split a
+    large job into several calls check the whole job first with this function.
+    """
+    from filmoptic.limits import WORK
+
+    points, interfaces = int(points), max(int(interfaces), 1)
+    request = request or (f"{points:,} grid points (wavelengths × thickness sets × angles) × "
+                          f"{interfaces} interfaces").replace(",", " ")
+    WORK.check(points * interfaces, request, fix or "use fewer wavelengths, thicknesses or layers")
+
+
+def _charge(points: int, interfaces: int) -> None:
+    """Count one call against the running command's work budget (:func:`filmoptic.limits.work_budget`)."""
+    from filmoptic.limits import charge_work
+
+    charge_work((points + _CALL_POINTS) * max(interfaces, 1))
+
+
+def _check_result(R, T, wl) -> None:
+    """R and T are fractions of the incident light: finite and within [0, 1] (a last guard; the
+    inputs are checked so that this never fails)."""
+    tolerance = 1e-9
+    good = (np.isfinite(R) & np.isfinite(T) & (R >= -tolerance) & (T >= -tolerance)
+            & (R + T <= 1.0 + 1e-6))
+    if not np.all(good):
+        where = float(np.broadcast_to(wl, R.shape)[~good].flat[0])
+        raise FilmopticError(
+            f"the calculation lost precision at {where:g} nm (extreme indices, thicknesses or "
+            "angles); check the stack's numbers, and please report the stack if they are sensible"
+        )
 
 
 def _check_polarization(polarization) -> str:
@@ -352,28 +433,35 @@ def _check_angles(angle_deg) -> np.ndarray:
         angles = np.asarray(angle_deg, dtype=float)
     except (TypeError, ValueError):
         raise FilmopticError(f"angle of incidence must be a number of degrees, got {angle_deg!r}") from None
-    if not np.all(np.isfinite(angles)) or np.any(angles < 0) or np.any(angles >= 90):
-        raise FilmopticError("angle of incidence must lie in [0, 90) degrees")
+    from filmoptic.units import check_angles_deg
+
+    check_angles_deg(angles)
     return angles
 
 
-def _incident_index(material, N0, angles) -> np.ndarray:
-    """The incident medium's index, checked for a meaningful angle of incidence.
+def _incident_index(material, N0, angles, wl) -> np.ndarray:
+    """The incident medium's index, checked: the light must arrive through a practically
+    transparent medium (:func:`filmoptic.materials.is_practically_transparent`, k/n ≤ 1e-4).
 
-    n0·sin θ0 must be real (tmm requires the same). A practically transparent medium such as
-    water (:func:`filmoptic.materials.is_practically_transparent`) has its tiny k dropped, which
-    changes R and T by less than k/n; a truly absorbing one is an error at an angle.
+    In an absorbing medium the incident, reflected and transmitted waves interfere in the
+    energy flow, so R and T are not defined in the usual way (and R may exceed 1), and at an angle
+    n0·sin θ0 would not be real (tmm requires the same). A practically transparent medium such as
+    water keeps its tiny k at normal incidence; at an angle the k is dropped, which changes R and
+    T by less than k/n.
     """
-    from filmoptic.materials import is_practically_transparent
+    from filmoptic.materials import TRANSPARENT_K_OVER_N, is_practically_transparent
 
-    if not np.any(angles > 0) or not np.any(N0.imag > 0):
+    if not np.any(N0.imag > 0):
         return N0
     if is_practically_transparent(N0):
-        return N0.real.astype(complex)
+        return N0.real.astype(complex) if np.any(angles > 0) else N0
+    worst = int(np.argmax(N0.imag / N0.real))
+    name = material if isinstance(material, str) else getattr(material, "label", material)
     raise FilmopticError(
-        f"light arrives at an angle from {getattr(material, 'label', material)}, which "
-        "absorbs (k > 0); an angle of incidence needs a transparent incident medium — use "
-        "--angle 0 or another medium"
+        f"the light arrives through {name}, which absorbs (k = {N0.imag[worst]:.3g}, n = "
+        f"{N0.real[worst]:.3g} at {wl[worst]:g} nm): R and T are defined only for light arriving "
+        f"through a practically transparent medium (k/n at most {TRANSPARENT_K_OVER_N:g}), such as "
+        "air, water or glass; choose another ambient (--ambient)"
     )
 
 
@@ -458,8 +546,7 @@ def _thickness_table(specs, columns, thickness_nm, consumed=None):
                 f"thickness_nm must have shape (..., {n_free}) for the stack's {n_free} free "
                 f"thickness(es), got shape {np.shape(thickness_nm)}"
             )
-        if not np.all(np.isfinite(values)) or np.any(values < 0):
-            raise FilmopticError("free thicknesses must be finite and not negative")
+        _check_thickness_values(values)
         batch_shape = values.shape[:-1]
         values = values.reshape(math.prod(batch_shape), n_free)
 

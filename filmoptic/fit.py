@@ -258,6 +258,13 @@ def parameter_bounds(stack) -> tuple[np.ndarray, np.ndarray, list[str]]:
             )
         if not hi > lo:
             raise FilmopticError(f"{p.name}: the range {lo:g}..{hi:g} is empty; write LOW..HIGH with LOW < HIGH")
+        if hi - lo <= 1e-9 * max(abs(lo), abs(hi)):
+            # The fit's scales and steps are fractions of the range: a range one rounding step
+            # wide fixes the value rather than frees it.
+            raise FilmopticError(
+                f"{p.name}: the range {lo:.12g}..{hi:.12g} is narrower than a part in a billion, "
+                "which fixes the value; write the number itself, or a wider LOW..HIGH"
+            )
         lows.append(lo)
         highs.append(hi)
         units.append(unit)
@@ -355,10 +362,12 @@ def _coefficient_sets(lo, hi, slots, n_parameters) -> np.ndarray:
 
 def _thickness_grid(lo, hi, steps, budget, seed=0):
     """Full grid with the given steps if it fits the budget, else a Sobol sample of the box."""
-    axes = [np.arange(a, b + 0.5 * s, s) if b > a else np.array([a]) for a, b, s in zip(lo, hi, steps)]
-    axes = [np.clip(ax, a, b) for ax, a, b in zip(axes, lo, hi)]
-    size = int(np.prod([ax.size for ax in axes]))
+    # Sizes first (a range of a metre at 0.05 nm would not fit in memory as a list).
+    counts = [math.floor((b - a) / s + 0.5) + 1 if b > a else 1 for a, b, s in zip(lo, hi, steps)]
+    size = math.prod(counts)
     if size <= budget:
+        axes = [np.arange(a, b + 0.5 * s, s) if b > a else np.array([a]) for a, b, s in zip(lo, hi, steps)]
+        axes = [np.clip(ax, a, b) for ax, a, b in zip(axes, lo, hi)]
         mesh = np.meshgrid(*axes, indexing="ij")
         return np.column_stack([m.ravel() for m in mesh]), size, True
     from scipy.stats import qmc
@@ -555,6 +564,7 @@ def fit_spectra(model, measured, *, angle_deg: float = 0.0, polarization: str = 
     sigma_points, sigma_source, notes = _sigma_points(spectra, sigma)
     lo, hi, units = parameter_bounds(stack)
     problem = _Problem(stack, spectra, sigma_points, float(angle_deg), polarization, extrapolate)
+    _check_refinement_work(problem, int(starts), int(max_nfev))
     # One progress scale for both stages: a step per chunk of the grid search, then per start.
     tell = progress or (lambda done, total: None)
     scale = {"search": 1}
@@ -622,6 +632,44 @@ def _checked_spectra(measured, wavelength_range_nm) -> list:
     return spectra
 
 
+def _evaluation_work(problem) -> tuple[int, int]:
+    """(wavelengths, interfaces) of one model evaluation: its work is their product."""
+    from .engine import interface_count
+
+    return problem.wavelength_nm.size, interface_count(problem.stack)
+
+
+def _check_refinement_work(problem, starts: int, max_nfev: int) -> None:
+    """Refuse at once a refinement that could run past the work limit: each start takes at most
+    ``max_nfev`` steps of one evaluation plus one per parameter for the Jacobian."""
+    from .engine import check_work
+
+    W, interfaces = _evaluation_work(problem)
+    evaluations = (starts + 1) * max_nfev * (len(problem.stack.parameters) + 1)
+    check_work(evaluations * W, interfaces,
+               f"fit: refining from up to {starts + 1} starts may need {evaluations} model evaluations × "
+               f"{W} wavelengths × {interfaces} interfaces",
+               "fit a narrower wavelength range (--range), fewer starts (--starts) or fewer unknowns")
+
+
+def _search_budget(problem, max_grid: int, sets: int) -> tuple[int, str]:
+    """Thickness sets per coefficient set for the global search, within ``max_grid`` and the work
+    limit (a note says when the limit made the search coarser)."""
+    from .engine import check_work
+    from .limits import WORK
+
+    W, interfaces = _evaluation_work(problem)
+    check_work(sets * 8 * W, interfaces,
+               f"fit: the global search needs at least {sets * 8} model evaluations × {W} wavelengths × "
+               f"{interfaces} interfaces", "fit a narrower wavelength range (--range) or fewer unknowns")
+    affordable = int(WORK.value() // (W * interfaces))
+    if affordable >= max_grid:
+        return max(max_grid // sets, 8), ""
+    note = (f"global search limited to {affordable} model evaluations by the work limit "
+            f"({WORK.variable}); --range with fewer points allows a finer search")
+    return max(affordable // sets, 8), note
+
+
 def _global_search(problem, lo, hi, max_grid, starts, report):
     """Starting points for the local refinement: the best distinct grid points (+ envelope)."""
     t_slots, c_slots = problem.thickness_slots, problem.coefficient_slots
@@ -638,9 +686,11 @@ def _global_search(problem, lo, hi, max_grid, starts, report):
         n_max = max(problem.max_index(v, wl_min) for v in sets)
         step = max(wl_min / (8.0 * n_max), 0.05)
         scales[t_slots] = step
-        budget = max(max_grid // len(sets), 8)
+        budget, limited = _search_budget(problem, max_grid, len(sets))
         grid, full_size, exhaustive = _thickness_grid(lo[t_slots], hi[t_slots],
                                                       np.full(len(t_slots), step), budget)
+        if limited and not exhaustive:
+            notes.append(limited)
         notes.append(
             f"global search: {grid.shape[0]} thickness set(s) (step {step:.1f} nm"
             + ("" if exhaustive else f", sampled from {full_size}")

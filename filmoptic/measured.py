@@ -54,6 +54,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import DataFileError
+from .files import check_row_count, numeric_rows
 
 __all__ = ["MeasuredSpectrum", "read_spectrum", "QUANTITIES", "split_row", "cell_number"]
 
@@ -121,6 +122,9 @@ def _words(text: str) -> list[str]:
 
 
 def _read_lines(path: Path) -> list[str]:
+    from .files import guard_input
+
+    guard_input(path, "measured spectrum")
     if not path.exists():
         raise DataFileError(f"measured spectrum {path}: no such file")
     if path.is_dir():
@@ -214,6 +218,18 @@ def _is_sigma_column(cell: str) -> bool:
     words = _words(cell)
     compact = re.sub(r"[^a-zσ]", "", cell.lower())
     return bool(set(words) & _SIGMA_WORDS) or compact in _SIGMA_WORDS
+
+
+def _fast_rows(data_lines, sep, n_columns, decimal_comma):
+    """(rows, line numbers, []) read in one vectorised pass, or (None, None, None) when some row
+    needs the careful line-by-line reading (a word, NaN, a decimal comma, a wavelength <= 0)."""
+    if decimal_comma and any("," in line for _, line in data_lines):
+        return None, None, None
+    table = numeric_rows([line for _, line in data_lines], sep)
+    if (table is None or table.shape != (len(data_lines), n_columns)
+            or not np.all(np.isfinite(table)) or np.any(table[:, 0] <= 0)):
+        return None, None, None
+    return table, [lineno for lineno, _ in data_lines], []
 
 
 def _line_list(numbers: list[int], limit: int = 8) -> str:
@@ -346,19 +362,21 @@ def read_spectrum(path, quantity: str | None = None) -> MeasuredSpectrum:
         )
 
     # --- the numbers -------------------------------------------------------------------------
-    rows: list[tuple[float, ...]] = []
-    row_lines: list[int] = []
-    bad: list[int] = []
-    for lineno, line in content[first_data:]:
-        cells = _split(line, sep)
-        numbers = [_to_float(c, decimal_comma) for c in cells]
-        if (len(cells) != n_columns or any(v is None for v in numbers)
-                or not all(math.isfinite(v) for v in numbers) or numbers[0] <= 0):
-            bad.append(lineno)
-            continue
-        rows.append(tuple(numbers))
-        row_lines.append(lineno)
-    if not rows:
+    data_lines = content[first_data:]
+    check_row_count(len(data_lines), f"measured spectrum {path}")
+    rows, row_lines, bad = _fast_rows(data_lines, sep, n_columns, decimal_comma)
+    if rows is None:
+        rows, row_lines, bad = [], [], []
+        for lineno, line in data_lines:
+            cells = _split(line, sep)
+            numbers = [_to_float(c, decimal_comma) for c in cells]
+            if (len(cells) != n_columns or any(v is None for v in numbers)
+                    or not all(math.isfinite(v) for v in numbers) or numbers[0] <= 0):
+                bad.append(lineno)
+                continue
+            rows.append(tuple(numbers))
+            row_lines.append(lineno)
+    if not len(rows):
         raise DataFileError(
             f"measured spectrum {path} has no usable row (lines {_line_list(bad)} are not "
             f"{n_columns} finite numbers with a positive wavelength)"

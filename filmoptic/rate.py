@@ -39,7 +39,6 @@ from memory; N. R. Draper & H. Smith, *Applied Regression Analysis*, 3rd ed., Wi
 
 from __future__ import annotations
 
-import json
 import math
 import re
 from dataclasses import dataclass
@@ -48,6 +47,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import DataFileError, FilmopticError
+from .units import MAX_LENGTH_NM as MAX_THICKNESS_NM
 from .units import parse_duration_s, parse_length_nm, parse_number
 
 __all__ = [
@@ -172,51 +172,50 @@ def thickness_from_solve_file(path, index: int | None = None) -> tuple[float, fl
         The thickness and a standard uncertainty taken as half the reported interval
         (``(high_nm - low_nm) / 2``), or ``None`` when the interval is empty.
     """
+    from .files import read_json_input
+
     path, index = _split_solve_reference(path, index)
-    try:
-        data = json.loads(path.read_text(encoding="utf-8"))
-        solutions = data["solutions"]
-        if not isinstance(solutions, list) or not solutions:
-            raise ValueError("no solutions")
-        count = len(solutions)
-        if index is None and count > 1:
-            raise _SeveralSolutions(count)
-        if index is not None and not 1 <= index <= count:
-            raise _SeveralSolutions(count)
-        chosen = solutions[(index or 1) - 1]
-        thickness = float(chosen["thickness_nm"])
-        low, high = chosen.get("low_nm"), chosen.get("high_nm")
-    except FileNotFoundError:
-        raise DataFileError(f"{path}: no such file") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise DataFileError(f"{path}: cannot read it ({exc.__class__.__name__})") from None
-    except _SeveralSolutions as several:
-        n = several.count
-        if index is None:
-            raise FilmopticError(
-                f"{path} holds {n} solutions (several thicknesses meet the condition): add the number of "
-                f"the one to use, as in the '#' column of the solve table, e.g. {path}#2 (1 to {n})"
-            ) from None
-        choice = f"pick one of {path}#1 … {path}#{n}" if n > 1 else f"write {path} (or {path}#1)"
+    data = read_json_input(path, "solve file")
+    not_solve = f"{path}: not a 'filmoptic solve --json' output with at least one solution"
+    solutions = data.get("solutions") if isinstance(data, dict) else None
+    if (not isinstance(solutions, list) or not solutions
+            or not all(isinstance(s, dict) and "thickness_nm" in s for s in solutions)):
+        raise DataFileError(not_solve)
+    count = len(solutions)
+    if index is None and count > 1:
         raise FilmopticError(
-            f"{path}#{index}: the file holds {n} solution{'s' if n != 1 else ''}; {choice}"
-        ) from None
-    except (json.JSONDecodeError, KeyError, IndexError, TypeError, ValueError, AttributeError):
-        raise DataFileError(
-            f"{path}: not a 'filmoptic solve --json' output with at least one solution"
-        ) from None
-    if not math.isfinite(thickness) or thickness < 0:
+            f"{path} holds {count} solutions (several thicknesses meet the condition): add the number "
+            f"of the one to use, as in the '#' column of the solve table, e.g. {path}#2 (1 to {count})"
+        )
+    if index is not None and not 1 <= index <= count:
+        choice = f"pick one of {path}#1 … {path}#{count}" if count > 1 else f"write {path} (or {path}#1)"
+        raise FilmopticError(
+            f"{path}#{index}: the file holds {count} solution{'s' if count != 1 else ''}; {choice}"
+        )
+    chosen = solutions[(index or 1) - 1]
+    thickness = _solve_file_number(chosen["thickness_nm"], "thickness_nm", path)
+    if thickness is None or thickness > MAX_THICKNESS_NM:
         raise DataFileError(f"{path}: the chosen solution's thickness_nm is not a valid thickness")
+    low = _solve_file_number(chosen.get("low_nm"), "low_nm", path)
+    high = _solve_file_number(chosen.get("high_nm"), "high_nm", path)
     sigma = None
-    if low is not None and high is not None and float(high) > float(low):
-        sigma = (float(high) - float(low)) / 2.0
+    if low is not None and high is not None and high > low:
+        if not low <= thickness <= high or high > MAX_THICKNESS_NM:
+            raise DataFileError(
+                f"{path}: the chosen solution's interval {low:g}–{high:g} nm does not hold its "
+                f"thickness {thickness:g} nm"
+            )
+        sigma = (high - low) / 2.0
     return thickness, sigma
 
 
-class _SeveralSolutions(Exception):
-    def __init__(self, count):
-        super().__init__(count)
-        self.count = count
+def _solve_file_number(value, key: str, path) -> float | None:
+    """A non-negative finite number from a solve file (None for null or a missing key)."""
+    if value is None:
+        return None
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) or value < 0:
+        raise DataFileError(f"{path}: {key} must be a thickness in nm (a number >= 0), got {value!r:.40}")
+    return float(value)
 
 
 def _split_solve_reference(path, index):
@@ -226,7 +225,7 @@ def _split_solve_reference(path, index):
     if match is None or match.group("index") is None:
         return Path(text), index
     index_text = match.group("index").strip()
-    if not index_text.isdigit() or int(index_text) < 1:
+    if not index_text.isdigit() or len(index_text) > 9 or int(index_text) < 1:
         raise FilmopticError(
             f"{text}: after '#' write the solution's number (1 for the first), e.g. {match.group('path')}#2"
         )
@@ -314,6 +313,7 @@ def parse_run(text: str, tooling_factor: float | None = None) -> Run:
             raise FilmopticError(
                 f"--run {text!r}: a monitor reading needs the tooling factor (--tooling)"
             )
+        _check_tooling(tooling_factor)
         indicated, sigma = parse_thickness(thickness_text.split("=", 1)[1], what=what)
         thickness = indicated * tooling_factor
         sigma = None if sigma is None else sigma * tooling_factor
@@ -322,6 +322,20 @@ def parse_run(text: str, tooling_factor: float | None = None) -> Run:
     else:
         thickness, sigma = parse_thickness(thickness_text, what=what)
     return Run(duration, thickness, sigma, thickness_text, text)
+
+
+def _check_tooling(tooling_factor) -> None:
+    """A tooling factor is a ratio of thicknesses near 1 (the crystal sits near the substrates)."""
+    if tooling_factor is None:
+        return
+    low, high = TOOLING_RANGE
+    if not (math.isfinite(tooling_factor) and tooling_factor > 0):
+        raise FilmopticError(f"--tooling must be a positive number, got {tooling_factor:g}")
+    if not low <= tooling_factor <= high:
+        raise FilmopticError(
+            f"--tooling {tooling_factor:g} is not a tooling factor (measured ÷ indicated thickness, "
+            f"{low:g} to {high:g}; usually near 1)"
+        )
 
 
 def _run_sigmas(runs) -> np.ndarray | None:
@@ -340,6 +354,12 @@ def _run_sigmas(runs) -> np.ndarray | None:
     sigma = np.array([r.sigma_nm for r in runs], dtype=float)
     if not np.all(np.isfinite(sigma) & (sigma > 0)):
         raise FilmopticError("rate: a thickness uncertainty must be a positive number of nm")
+    if np.any(sigma < MIN_SIGMA_NM):
+        i = int(np.argmin(sigma))
+        raise FilmopticError(
+            f"rate: run {i + 1}'s thickness uncertainty ({sigma[i]:.3g} nm) is below "
+            f"{MIN_SIGMA_NM:g} nm, far below what any thickness measurement resolves; check its unit"
+        )
     return sigma
 
 
@@ -358,17 +378,61 @@ def _how_to_add_sigma(run: Run) -> str:
     return f"{written}: write it with its uncertainty, e.g. {example}"
 
 
-def _least_squares(design, d, weights):
+#: Smallest thickness uncertainty a run may carry (a femtometre: far below any measurement).
+MIN_SIGMA_NM = 1e-6
+
+#: Plausible tooling factors (measured ÷ indicated thickness); real ones lie near 1 (common practice).
+TOOLING_RANGE = (0.01, 100.0)
+
+#: Slowest rate worth reporting, nm/s (a nanometre in about 30 years: no deposition is slower).
+MIN_RATE_NM_PER_S = 1e-9
+
+#: Largest condition number of the (scaled) normal equations that still fixes the fitted line.
+_MAX_CONDITION = 1e10
+
+
+def _least_squares(design, d, weights, runs):
     """Weighted linear least squares: coefficients and (AᵀWA)⁻¹ for design matrix A, W = diag(w).
 
     (AᵀWA)⁻¹ is the covariance of the coefficients when the weights are 1/σ² of known σ
     (Bevington & Robinson, ch. 7); otherwise it still needs the residual variance as a factor.
+    The columns and the weights are scaled to order one first, so durations of milliseconds or
+    months and uncertainties of picometres or millimetres neither overflow nor underflow; a
+    problem whose scaled normal equations are (nearly) singular is refused, saying what makes it
+    so.
     """
-    normal = design.T @ (design * weights[:, None])
-    if abs(np.linalg.det(normal)) <= 1e-12 * np.abs(normal).max() ** normal.shape[0]:
-        raise FilmopticError("--run: the runs need at least two different durations to fit an offset")
-    coeffs = np.linalg.solve(normal, design.T @ (weights * d))
-    return coeffs, np.linalg.inv(normal)
+    columns = np.max(np.abs(design), axis=0)
+    columns[columns == 0] = 1.0
+    top = float(np.max(weights))
+    scaled = design / columns
+    w = weights / top
+    with np.errstate(all="ignore"):
+        normal = scaled.T @ (scaled * w[:, None])
+        condition = np.linalg.cond(normal) if np.all(np.isfinite(normal)) else math.inf
+    if not condition <= _MAX_CONDITION:
+        raise FilmopticError(_degenerate_runs(design, weights, runs))
+    coefficients = np.linalg.solve(normal, scaled.T @ (w * d)) / columns
+    inverse = np.linalg.inv(normal) / np.outer(columns, columns) / top
+    return coefficients, inverse
+
+
+def _degenerate_runs(design, weights, runs) -> str:
+    """Why the runs cannot fix the line (the fit is degenerate), in the user's terms."""
+    t = design[:, 0]
+    if design.shape[1] == 1:
+        return "rate: the runs' durations are all zero or too short to fix a rate"
+    effective = weights / np.max(weights) > 1.0 / _MAX_CONDITION
+    if np.ptp(t[effective]) <= 1e-9 * np.max(np.abs(t)):
+        if np.all(effective):
+            return (f"rate: every run lasted {t[0]:g} s; fitting a rate and an offset needs runs of "
+                    "at least two different durations (or fit through the origin: --through-origin)")
+        sigmas = [r.sigma_nm for r in runs]
+        tight, loose = int(np.argmin(sigmas)), int(np.argmax(sigmas))
+        return (f"rate: the thickness uncertainties differ too much to fit together (run {tight + 1} "
+                f"± {sigmas[tight]:.3g} nm, run {loose + 1} ± {sigmas[loose]:.3g} nm): the tightest "
+                "run(s) alone fix the line; check the uncertainties and their units")
+    return (f"rate: the runs' durations ({t.min():.10g} to {t.max():.10g} s) are too close together to "
+            "separate a rate from an offset; add a run of clearly different length")
 
 
 def _propagate(grad, cov) -> float:
@@ -428,8 +492,7 @@ def fit_rate(runs, target_nm: float | None = None, tooling_factor: float | None 
     runs = tuple(runs)
     if not runs:
         raise FilmopticError("rate: give at least one calibration run (--run DURATION:THICKNESS)")
-    if tooling_factor is not None and not (math.isfinite(tooling_factor) and tooling_factor > 0):
-        raise FilmopticError(f"--tooling must be a positive number, got {tooling_factor:g}")
+    _check_tooling(tooling_factor)
     if target_nm is not None and not (math.isfinite(target_nm) and target_nm > 0):
         raise FilmopticError("--target must be a positive thickness")
     t = np.array([r.duration_s for r in runs], dtype=float)
@@ -442,7 +505,7 @@ def fit_rate(runs, target_nm: float | None = None, tooling_factor: float | None 
 
     design = t[:, None] if origin else np.column_stack([t, np.ones_like(t)])
     weights = np.ones_like(t) if sigma is None else 1.0 / sigma**2
-    coeffs, inverse = _least_squares(design, d, weights)
+    coeffs, inverse = _least_squares(design, d, weights, runs)
     residual = d - design @ coeffs
     dof = len(runs) - design.shape[1]
     chi2 = chi2_probability = None
@@ -465,6 +528,11 @@ def fit_rate(runs, target_nm: float | None = None, tooling_factor: float | None 
     if not rate > 0:
         raise FilmopticError(
             f"rate: the runs give a rate of {rate:.4g} nm/s; longer runs must give thicker films"
+        )
+    if rate < MIN_RATE_NM_PER_S:
+        raise FilmopticError(
+            f"rate: the runs give a rate of {rate:.3g} nm/s, below {MIN_RATE_NM_PER_S:g} nm/s (a "
+            "nanometre in 30 years): check the thickness and time units of the runs"
         )
     time_s = time_sigma = endpoint = None
     if target_nm is not None:

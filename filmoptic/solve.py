@@ -95,8 +95,6 @@ ROOT_TOLERANCE = 1e-7
 #: Default thickness ranges by the free layer's material kind (nm): a metal film is opaque well
 #: before 100 nm; a dielectric shows several interference orders within 500 nm.
 DEFAULT_RANGE_NM = {"metal": (0.0, 100.0), "other": (0.0, 500.0)}
-#: Largest number of grid points a solve may use.
-MAX_GRID = 200_000
 #: Stages of :func:`solve_batch` reported to its ``advance`` callback.
 BATCH_STEPS = 3
 #: Thickness step for slopes (central differences on the forward model), nm.
@@ -664,12 +662,12 @@ def _max_index(material, wl, extrapolate) -> float:
 
 
 def _thickness_grid(lo, hi, step):
-    count = int(math.ceil((hi - lo) / step - 1e-9)) + 1
-    if count > MAX_GRID:
-        raise FilmopticError(
-            f"--range {lo:g}:{hi:g} nm needs {count} grid points at {step:.3g} nm; narrow the range"
-        )
-    return np.linspace(lo, hi, max(count, 3))
+    from .limits import GRID_POINTS
+
+    count = math.ceil((hi - lo) / step - 1e-9) + 1 if math.isfinite((hi - lo) / step) else math.inf
+    GRID_POINTS.check(count, f"--range {lo:g}:{hi:g} nm at a step of {step:.3g} nm",
+                      "use a larger --step or narrow the --range")
+    return np.linspace(lo, hi, max(int(count), 3))
 
 
 def _setup(stack, conditions, range_nm, step_nm, angle_deg, extrapolate, ambient):

@@ -57,10 +57,11 @@ from dataclasses import dataclass, replace
 from functools import cached_property
 
 from filmoptic.errors import FilmopticError, StackSyntaxError
+from filmoptic.limits import LAYERS, NUMBER_CHARACTERS, REPEAT_COUNT, STACK_CHARACTERS
 from filmoptic.params import Free, Parameter, is_free
-from filmoptic.units import LENGTH_UNIT_PATTERN, length_unit_nm
+from filmoptic.units import LENGTH_UNIT_PATTERN, MAX_LENGTH_NM, length_unit_nm
 
-__all__ = ["Layer", "Stack", "parse_stack", "quarter_wave_nm", "MAX_REPEAT", "MAX_LAYERS", "MAX_QUARTER_WAVES"]
+__all__ = ["Layer", "Stack", "parse_stack", "quarter_wave_nm", "MAX_REPEAT", "MAX_NESTING", "MAX_QUARTER_WAVES"]
 
 # '+ 2nm oxide', '+ 20Å Al2O3:ALD', '+ 1.5 nm n=1.65' at the end of an item.
 _OXIDE_RE = re.compile(
@@ -68,10 +69,10 @@ _OXIDE_RE = re.compile(
     r"\s+(?P<what>\S+)\s*$"
 )
 
-#: Largest repeat count of a group (more is a typo, not a coating).
-MAX_REPEAT = 10_000
-#: Largest number of layers a stack may expand to.
-MAX_LAYERS = 100_000
+#: Largest repeat count of a group (more is a typo, not a coating; see :mod:`filmoptic.limits`).
+MAX_REPEAT = REPEAT_COUNT
+#: Deepest nesting of groups and brackets (real designs nest two or three levels).
+MAX_NESTING = 32
 
 _NUM = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
 _UNIT = LENGTH_UNIT_PATTERN
@@ -386,6 +387,9 @@ def parse_stack(text: str, ambient="air") -> Stack:
         raise StackSyntaxError(
             "empty stack: write the layers and the substrate, e.g. 'TiO2 60nm / glass 3mm'"
         )
+    STACK_CHARACTERS.check(len(text), "the stack", "write repeated layers as a group [ … ]xN",
+                           error=StackSyntaxError)
+    _check_long_numbers(text)
     ambient_material = _read_ambient(ambient, parse_material)
     settings, body = _split_settings(text)
     parser = _Parser(parse_material, *_read_settings(settings, parse_material))
@@ -403,8 +407,7 @@ def parse_stack(text: str, ambient="air") -> Stack:
     layers = []
     for label, item in items[:-1]:
         layers.extend(parser.item(label, item))
-        if len(layers) > MAX_LAYERS:
-            raise StackSyntaxError(f"the stack expands to more than {MAX_LAYERS} layers")
+        LAYERS.check(len(layers), "the stack", error=StackSyntaxError)
     substrate = parser.substrate(*items[-1])
     if isinstance(substrate, tuple):          # a substrate with its native oxide on top
         oxide_layer, substrate = substrate
@@ -519,6 +522,18 @@ def quarter_wave_nm(material, count: float, wavelength_nm: float) -> float:
     return float(count) * float(wavelength_nm) / (4.0 * N.real)
 
 
+def _check_long_numbers(text: str) -> None:
+    """Refuse a number of more than ``NUMBER_CHARACTERS`` digits before any pattern meets it: no
+    thickness or index needs them, and matching a 100 000-digit run takes minutes."""
+    outside = _outside_brackets(text, blank_brackets=False)
+    m = re.search(rf"\d{{{NUMBER_CHARACTERS + 1},}}", outside)
+    if m:
+        raise StackSyntaxError(
+            f"a number written with {len(m.group())} digits (from {text[m.start():m.start() + 12]!r}…) is "
+            f"not a thickness, index or count (at most {NUMBER_CHARACTERS} characters)"
+        )
+
+
 def _read_ambient(ambient, parse_material):
     if isinstance(ambient, str):
         try:
@@ -545,6 +560,10 @@ def _split_items(text: str, prefix: str):
         ch = text[i]
         if ch in "([":
             depth += 1
+            if depth > MAX_NESTING:
+                raise StackSyntaxError(
+                    f"brackets nested more than {MAX_NESTING} deep in {text.strip()[:40]!r}…"
+                )
         elif ch in ")]":
             depth -= 1
             if depth < 0:
@@ -594,12 +613,13 @@ def _group_parts(item: str, label: str):
         raise StackSyntaxError(
             f"item {label} {item!r}: the repeat count must be a whole number, got {count_text!r}"
         )
-    count = int(count_text)
+    count = int(count_text) if len(count_text) <= 9 else MAX_REPEAT + 1
     if count < 1:
         raise StackSyntaxError(f"item {label} {item!r}: a group must repeat at least once (x1 or more)")
     if count > MAX_REPEAT:
+        shown = count_text if len(count_text) <= 12 else f"a {len(count_text)}-digit number of"
         raise StackSyntaxError(
-            f"item {label} {item!r}: {count} repeats is absurd (at most {MAX_REPEAT})"
+            f"item {label} {item[:40]!r}: {shown} repeats is absurd (at most {MAX_REPEAT})"
         )
     if not inner.strip():
         raise StackSyntaxError(f"item {label} {item!r}: the group is empty")
@@ -666,10 +686,7 @@ class _Parser:
             once = []
             for sub_label, sub in _split_items(inner, f"{label}."):
                 once.extend(self.item(sub_label, sub))
-            if len(once) * count > MAX_LAYERS:
-                raise StackSyntaxError(
-                    f"item {label} {text!r}: expands to {len(once) * count} layers (at most {MAX_LAYERS})"
-                )
+            LAYERS.check(len(once) * count, f"item {label} {text[:40]!r} expands to", error=StackSyntaxError)
             return once * count
         material, thickness, thick = self._material_and_thickness(label, text)
         if thickness is None:
@@ -879,8 +896,9 @@ def _separator_hint(item: str) -> str:
     return f"items are separated by ' / ', not {mark.group()!r}: write {example}"
 
 
-def _outside_brackets(item: str) -> str:
-    """The item with anything inside (), [] and file paths blanked out (same length)."""
+def _outside_brackets(item: str, blank_brackets: bool = True) -> str:
+    """The item with anything inside (), [] and file paths blanked out (same length); with
+    ``blank_brackets=False`` only the file paths."""
     out, depth, i = [], 0, 0
     while i < len(item):
         if item[i:i + 5].lower() == "file:":
@@ -893,7 +911,7 @@ def _outside_brackets(item: str) -> str:
         ch = item[i]
         if ch in "([":
             depth += 1
-        out.append(ch if depth == 0 else " ")
+        out.append(ch if depth == 0 or not blank_brackets else " ")
         if ch in ")]":
             depth = max(0, depth - 1)
         i += 1
@@ -942,7 +960,7 @@ def _read_thickness(label: str, item: str, text: str):
             raise StackSyntaxError(f"{where}: a thickness range needs 0 <= LOW < HIGH")
         if not low < high:
             raise StackSyntaxError(f"{where}: a thickness range LOW..HIGH needs LOW < HIGH")
-        if high > 1e9:
+        if high > MAX_LENGTH_NM:
             raise StackSyntaxError(f"{where}: the range {text!r} is absurdly large (over 1 m)")
         return Free(low, high), thick
     value = float(body) * scale
@@ -950,6 +968,6 @@ def _read_thickness(label: str, item: str, text: str):
         raise StackSyntaxError(f"{where}: the thickness {text!r} is not a finite number")
     if value < 0:
         raise StackSyntaxError(f"{where}: the thickness must not be negative, got {text!r}")
-    if value > 1e9:
+    if value > MAX_LENGTH_NM:
         raise StackSyntaxError(f"{where}: the thickness {text!r} is absurdly large (over 1 m)")
     return value, thick

@@ -20,6 +20,7 @@ import re
 import numpy as np
 
 from .errors import FilmopticError
+from .limits import GRID_POINTS, check_number_text
 
 __all__ = [
     "LENGTH_UNITS_NM",
@@ -39,6 +40,12 @@ __all__ = [
     "parse_meter_value",
     "READING_UNITS",
     "SMALL_BARE_ANGLE",
+    "MAX_LENGTH_NM",
+    "WAVELENGTH_RANGE_NM",
+    "MIN_DURATION_S",
+    "MAX_DURATION_S",
+    "MAX_ANGLE_DEG",
+    "check_angles_deg",
 ]
 
 #: Length units accepted everywhere, in nanometres. Ångström (0.1 nm) is written ``A``, ``Å`` (either
@@ -55,10 +62,18 @@ _DURATION_UNITS_S = {
     "min": 60.0, "mins": 60.0, "minute": 60.0, "minutes": 60.0, "m": 60.0,
     "h": 3600.0, "hr": 3600.0, "hrs": 3600.0, "hour": 3600.0, "hours": 3600.0,
 }
-# Guards against absurd input (a grid that would not fit in memory is a typo, not a request).
-MAX_GRID_POINTS = 2_000_000
-# A deposition or measurement longer than this (about 4 months) is a typo, not a request.
+#: A length above this (1 m) is a typo, not a coating or a substrate.
+MAX_LENGTH_NM = 1e9
+#: Wavelengths filmoptic computes with, nm: from soft X-rays (1 nm) to the far infrared (1 mm).
+WAVELENGTH_RANGE_NM = (1.0, 1e6)
+#: A deposition or measurement longer than this (about 4 months) is a typo, not a request.
 MAX_DURATION_S = 1e7
+#: … or shorter than a millisecond (no shutter opens and closes that fast).
+MIN_DURATION_S = 1e-3
+#: Largest angle of incidence, degrees from the normal. Closer to grazing than 0.001° is no
+#: measurement (a beam diverges more than that), and there the intensity sums of a thick slab
+#: meet 1 − R·R' = 0 in floating point.
+MAX_ANGLE_DEG = 89.999
 # Units a wavelength may carry in a grid or list (the bare number means nm).
 _WAVELENGTH_UNIT_RE = re.compile(r"^(.*?)\s*(nm|um|µm|μm)$")
 
@@ -72,6 +87,7 @@ def parse_number(text: str, what: str = "number") -> float:
     150.0
     """
     s = str(text).strip()
+    check_number_text(s, what)
     if not re.fullmatch(_NUMBER, s):
         if re.fullmatch(r"[+-]?\d+,\d+", s):
             # A decimal comma (common on European instruments and keyboards).
@@ -112,6 +128,7 @@ def parse_length_nm(text: str, what: str = "thickness", allow_zero: bool = True)
     >>> parse_length_nm("218Å")
     21.8
     """
+    check_number_text(str(text).strip(), what)
     m = _LENGTH_RE.match(str(text))
     if not m:
         if re.fullmatch(rf"\s*{_NUMBER}\s*", str(text)):
@@ -123,7 +140,7 @@ def parse_length_nm(text: str, what: str = "thickness", allow_zero: bool = True)
     value = float(m.group(1)) * length_unit_nm(m.group(2))
     if not math.isfinite(value) or value < 0 or (value == 0 and not allow_zero):
         raise FilmopticError(f"{what} must be a positive length, got {text!r}")
-    if value > 1e9:
+    if value > MAX_LENGTH_NM:
         raise FilmopticError(f"{what} {text!r} is absurdly large (over 1 m)")
     return value
 
@@ -133,9 +150,11 @@ def _grid(start: float, stop: float, step: float, what: str) -> np.ndarray:
         raise FilmopticError(f"{what}: the step must be positive, got {step:g}")
     if stop < start:
         raise FilmopticError(f"{what}: the stop ({stop:g}) is below the start ({start:g})")
-    count = int(math.floor((stop - start) / step + 1e-9)) + 1
-    if count > MAX_GRID_POINTS:
-        raise FilmopticError(f"{what}: {count} points is too many (at most {MAX_GRID_POINTS})")
+    count = math.floor((stop - start) / step + 1e-9) + 1 if math.isfinite((stop - start) / step) else math.inf
+    GRID_POINTS.check(count, f"{what} {start:g}:{stop:g}:{step:g}", "use a larger step or a shorter range")
+    count = int(count)
+    if count > 1 and start + step == start:
+        raise FilmopticError(f"{what}: the step {step:g} is too small to change {start:g}")
     # Built from integers so that 380:780:5 ends exactly on 780.
     return start + step * np.arange(count, dtype=float)
 
@@ -163,8 +182,14 @@ def parse_wavelengths_nm(text: str, what: str = "--wl") -> np.ndarray:
         values = np.array([_wavelength_nm(p, what, text) for p in s.split(",")], dtype=float)
     if np.any(values <= 0):
         raise FilmopticError(f"{what}: wavelengths must be positive (nm), got {text!r}")
-    if np.any(values > 1e6):
+    if np.any(values > WAVELENGTH_RANGE_NM[1]):
         raise FilmopticError(f"{what}: {text!r} is beyond 1 mm; wavelengths are in nm")
+    if np.any(values < WAVELENGTH_RANGE_NM[0]):
+        raise FilmopticError(
+            f"{what}: {text!r} reaches below {WAVELENGTH_RANGE_NM[0]:g} nm; wavelengths are in nm "
+            f"(filmoptic works from {WAVELENGTH_RANGE_NM[0]:g} nm to 1 mm)"
+        )
+    GRID_POINTS.check(values.size, what, "give fewer wavelengths")
     return values
 
 
@@ -207,6 +232,8 @@ def parse_range_nm(text: str, what: str = "--range", need_step: bool = False) ->
     values = tuple(parse_length_nm(p, what) if _LENGTH_RE.match(p) else parse_number(p, what) for p in parts)
     if values[0] < 0 or values[1] <= values[0]:
         raise FilmopticError(f"{what}: need 0 <= START < STOP, got {text!r}")
+    if values[1] > MAX_LENGTH_NM:
+        raise FilmopticError(f"{what}: {text!r} reaches beyond 1 m; the values are in nm")
     if len(values) == 3:
         _grid(*values, what)  # validates step and size
     return values
@@ -252,6 +279,7 @@ def parse_duration_s(text: str, what: str = "duration") -> float:
     (330.0, 3900.0, 3900.0)
     """
     s = str(text).strip().lower().replace(" ", "")
+    check_number_text(s, what)
     if ":" in s:
         value = _clock_duration_s(s, what, text)
     elif re.fullmatch(_NUMBER, s):
@@ -269,6 +297,8 @@ def parse_duration_s(text: str, what: str = "duration") -> float:
             value += float(number) * _DURATION_UNITS_S[unit]
     if not math.isfinite(value) or value <= 0:
         raise FilmopticError(f"{what} must be positive, got {text!r}")
+    if value < MIN_DURATION_S:
+        raise FilmopticError(f"{what} {text!r} is absurdly short (under a millisecond)")
     if value > MAX_DURATION_S:
         raise FilmopticError(f"{what} {text!r} is absurdly long (over {MAX_DURATION_S / 86400:.0f} days)")
     return value
@@ -324,7 +354,7 @@ def _warn_small_bare(values_deg, bare_flags, what: str, text) -> None:
 
 
 def parse_angle_deg(text, what: str = "--angle") -> float:
-    """One angle of incidence in degrees, 0 to under 90: ``45``, ``45°``, ``45deg`` or ``0.785rad``.
+    """One angle of incidence in degrees, 0 to 89.999: ``45``, ``45°``, ``45deg`` or ``0.785rad``.
 
     A bare number is degrees. A bare non-zero number below :data:`SMALL_BARE_ANGLE` looks like
     radians, so it is read as degrees with a :class:`UserWarning` that says how to write radians.
@@ -338,10 +368,7 @@ def parse_angle_deg(text, what: str = "--angle") -> float:
         value, bare = float(text), False
     else:
         value, bare = _angle_part(str(text), what)
-    if not 0 <= value < 90:
-        raise FilmopticError(
-            f"{what}: the angle of incidence must lie in 0 to under 90 degrees from the normal, got {text}"
-        )
+    check_angles_deg(value, what, text)
     _warn_small_bare([value], [bare], what, text)
     return value
 
@@ -369,8 +396,7 @@ def parse_angles_deg(text: str, what: str = "--angles") -> np.ndarray:
         read = [_angle_part(p, what) for p in s.split(",")]
         values = np.array([v for v, _ in read], dtype=float)
         bare = [b for _, b in read]
-    if np.any(values < 0) or np.any(values >= 90):
-        raise FilmopticError(f"{what}: angles of incidence must lie in [0, 90) degrees, got {text!r}")
+    check_angles_deg(values, what, text)
     _warn_small_bare(values.tolist(), bare, what, text)
     return values
 
@@ -487,3 +513,23 @@ def parse_volts_range(text, what: str = "--volts", need_step: bool = True) -> tu
 def inclusive_grid(start: float, stop: float, step: float, what: str = "range") -> np.ndarray:
     """``start`` to ``stop`` in ``step``s (both ends included when the step divides the span)."""
     return _grid(start, stop, step, what)
+
+
+def check_angles_deg(values, what: str = "angle of incidence", text=None) -> None:
+    """Refuse angles of incidence outside 0 to :data:`MAX_ANGLE_DEG` degrees (or not finite).
+
+    Examples
+    --------
+    >>> check_angles_deg([0.0, 45.0, 89.999])
+    >>> check_angles_deg(90.0)
+    Traceback (most recent call last):
+    ...
+    filmoptic.errors.FilmopticError: angle of incidence: angles of incidence must lie between 0 and 89.999 degrees from the normal, got 90
+    """
+    values = np.asarray(values, dtype=float)
+    if not np.all(np.isfinite(values)) or np.any(values < 0) or np.any(values > MAX_ANGLE_DEG):
+        shown = text if text is not None else ", ".join(f"{v:g}" for v in np.ravel(values)[:5])
+        raise FilmopticError(
+            f"{what}: angles of incidence must lie between 0 and {MAX_ANGLE_DEG:g} degrees from the "
+            f"normal, got {shown}"
+        )

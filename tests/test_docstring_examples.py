@@ -14,6 +14,8 @@ import pytest
 
 MODULES = [
     "filmoptic.units",
+    "filmoptic.limits",
+    "filmoptic.files",
     "filmoptic.materials",
     "filmoptic.materials.base",
     "filmoptic.materials.models",

@@ -46,7 +46,8 @@ CAUTION = (
 
 # Options that name files the command writes. An output never replaces one of the command's inputs.
 OUTPUT_OPTIONS = ("--csv", "--plot", "--swatch", "--chart", "--out", "--log")
-_FILE_IN_TEXT = re.compile(r"file:\s*([^\s,()\[\]]+)", re.IGNORECASE)
+# "file:" in a stack or material, in any letter case; the path runs to the next white space.
+_FILE_IN_TEXT = re.compile(r"file:\s*(\S+)", re.IGNORECASE)
 
 
 def _option_table(command):
@@ -59,23 +60,33 @@ def _option_table(command):
 
 
 def _input_candidates(text):
-    """Paths a command-line value may name as an input: the value itself and any ``file:PATH``."""
+    """Paths a command-line value may name as an input: the value itself, any ``file:PATH`` (a
+    path may hold brackets and parentheses, and inside a mix ends at ',' or ')'), and the part
+    after a ``DURATION:`` (a solve file in ``--run 5min:run.json#2``)."""
     yield text
     for match in _FILE_IN_TEXT.finditer(text):
-        yield match.group(1)
-
-
-def _same_file(a, b) -> bool:
-    try:
-        return os.path.samefile(a, b)
-    except (OSError, ValueError):
-        return False
+        path = match.group(1)
+        yield path
+        for end, ch in enumerate(path):
+            if ch in ",)]":
+                yield path[:end]
+    head, colon, tail = text.partition(":")
+    if colon and tail:
+        yield tail
+        yield tail.rsplit("#", 1)[0]
 
 
 def check_arguments(command, args) -> None:
     """Refuse what click would let through silently: an option given twice (the first value
     would be dropped), both sides of an on/off switch, an empty output name, and an output
-    file that is one of the command's own inputs (or another output)."""
+    file that is one of the command's own inputs (or another output) or would become a table of
+    the user library folder.
+
+    Existing files named on the command line are recorded as inputs of the run
+    (:func:`filmoptic.files.note_input`), so the same rule is applied again when an output is
+    written, together with every file the command actually read."""
+    from filmoptic.files import input_conflict, input_guard, note_input, note_input_folder, same_file
+
     if "--help" in args or "-h" in args:
         return
     table = _option_table(command)
@@ -125,22 +136,26 @@ def check_arguments(command, args) -> None:
             outputs.append((name, value))
         else:
             inputs.append(value)
-    for index, (option, path) in enumerate(outputs):
-        if not os.path.exists(path):
-            continue
-        for other_option, other in outputs[:index]:
-            if _same_file(path, other):
-                raise click.UsageError(
-                    f"{other_option} and {option} name the same file {path}; give each its own"
-                )
+    with input_guard():
         for text in inputs:
             for candidate in _input_candidates(text):
                 candidate = os.path.expanduser(candidate)
-                if os.path.isfile(candidate) and _same_file(path, candidate):
+                if candidate and os.path.isfile(candidate):
+                    note_input(candidate)
+        library = os.environ.get("FILMOPTIC_NKDATA", "").strip()
+        if library:
+            note_input_folder(library)      # the library reads its *.txt and *.nk files
+        for index, (option, path) in enumerate(outputs):
+            for other_option, other in outputs[:index]:
+                if same_file(path, other) or os.path.abspath(path) == os.path.abspath(other):
                     raise click.UsageError(
-                        f"{option} {path} is an input of this command (input files are never "
-                        "written): choose another file name"
+                        f"{other_option} and {option} name the same file {path}; give each its own"
                     )
+            reason = input_conflict(path)
+            if reason:
+                raise click.UsageError(
+                    f"{option} {path}: {reason}; input files are never written, choose another file name"
+                )
 
 
 class LazyGroup(click.Group):
@@ -206,10 +221,12 @@ def main(argv=None) -> int:
     single line on stderr and exit code 2, never a traceback. Set ``FILMOPTIC_DEBUG=1`` to see the
     traceback of an unexpected error.
     """
+    from filmoptic.files import input_guard
+    from filmoptic.limits import work_budget
     from filmoptic.notes import collecting
 
     args = sys.argv[1:] if argv is None else list(argv)
-    with warnings.catch_warnings(), collecting() as notes:
+    with warnings.catch_warnings(), input_guard(), work_budget(), collecting() as notes:
         warnings.showwarning = _show_warning
         code = _run(args)
     if code == 0:
@@ -220,8 +237,18 @@ def main(argv=None) -> int:
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
-    """Warnings meant for the user (e.g. held end values with --extrapolate) as one line each."""
-    click.echo(f"filmoptic: warning: {_one_line(message)}", err=True)
+    """Warnings meant for the user (e.g. held end values with --extrapolate) as one line each.
+
+    numpy's floating-point warnings ("overflow encountered in …") are not for the user: every
+    input is validated and every result checked before it is shown, so they carry no news, and
+    their text would read as a failure. ``FILMOPTIC_DEBUG=1`` shows them for developers.
+    """
+    if issubclass(category, RuntimeWarning) and not os.environ.get("FILMOPTIC_DEBUG"):
+        return
+    from filmoptic.notes import warn
+
+    # Printed after the command's output, and only when it succeeds: a mistake stays one line.
+    warn(_one_line(message))
 
 
 def _run(args) -> int:

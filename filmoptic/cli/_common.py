@@ -60,7 +60,7 @@ ambient_option = click.option(
 
 
 class AngleType(click.ParamType):
-    """An angle of incidence in degrees, 0 to under 90; ``45``, ``45°``, ``45deg`` and ``0.785rad``
+    """An angle of incidence in degrees, 0 to 89.999; ``45``, ``45°``, ``45deg`` and ``0.785rad``
     all read (a bare small number is degrees, with a warning; see
     :func:`filmoptic.units.parse_angle_deg`)."""
 
@@ -80,7 +80,7 @@ class AngleType(click.ParamType):
 
 angle_option = click.option(
     "--angle", type=AngleType(), default=0.0, show_default=True, metavar="DEG",
-    help="Angle of incidence in the ambient, degrees from the normal (0 to under 90); radians only "
+    help="Angle of incidence in the ambient, degrees from the normal (0 to 89.999); radians only "
          "when written so (0.785rad).",
 )
 extrapolate_option = click.option(
@@ -286,5 +286,7 @@ def warn_thin_metal(stack, deposited_nm=None) -> None:
     for value in sorted(v for v in values if v is not None) or [None]:
         message = stack.thin_metal_warning(value)
         if message:
-            click.echo(f"filmoptic: warning: {message}", err=True)
+            from filmoptic.notes import warn
+
+            warn(message)
             return

@@ -36,7 +36,9 @@ def _warn_thin_metals(table, ambient) -> None:
             layers += parse_stack(c.stack, ambient=ambient).metal_layers(c.thickness_nm)
     message = thin_metal_warning(layers)
     if message:
-        click.echo(f"filmoptic: warning: {message}", err=True)
+        from filmoptic.notes import warn
+
+        warn(message)
 
 
 def _num(value, fmt):

@@ -148,8 +148,10 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
             result = _compute_with_progress(compute, parsed, wl, angle, polarization,
                                             reverse, extrapolate)
             lum = _luminous(parsed, wl, angle, polarization, reverse, extrapolate)
+        from filmoptic.notes import warn
+
         for message in dict.fromkeys(str(w.message) for w in caught):
-            click.echo(f"filmoptic: warning: {' '.join(message.split())}", err=True)
+            warn(message)
         warn_thin_metal(parsed)
 
         if csv_path:
@@ -284,12 +286,13 @@ def _compute_with_progress(compute, parsed, wavelengths, angle, polarization, re
     """One call for ordinary grids; on a very large grid, blocks of wavelengths with a bar."""
     import numpy as np
 
-    from filmoptic.engine import Spectrum
+    from filmoptic.engine import Spectrum, check_work, interface_count
 
     kwargs = dict(angle_deg=angle, polarization=polarization, reverse=reverse, extrapolate=extrapolate)
     size = wavelengths.size * (len(parsed.layers) + 1)
     if size < _PROGRESS_FROM:
         return compute(parsed, wavelengths, **kwargs)
+    check_work(wavelengths.size, interface_count(parsed))
     # Check every table against the whole grid first, so that a range error names the far end
     # of the request rather than the end of whichever block happened to fail.
     ends = np.array([wavelengths.min(), wavelengths.max()])

@@ -16,7 +16,8 @@ import numpy as np
 from filmoptic.errors import FilmopticError, WavelengthRangeError
 from filmoptic.params import is_free
 
-__all__ = ["Material", "MaterialInfo", "KINDS", "format_range_nm", "TRANSPARENT_K_OVER_N", "is_practically_transparent"]
+__all__ = ["Material", "MaterialInfo", "KINDS", "format_range_nm", "TRANSPARENT_K_OVER_N",
+           "is_practically_transparent", "MIN_INDEX", "MAX_INDEX", "check_index"]
 
 #: The kinds a material may have; the solver uses them to choose a default thickness range.
 KINDS = ("metal", "dielectric", "semiconductor", "substrate", "ambient", "model")
@@ -26,6 +27,48 @@ KINDS = ("metal", "dielectric", "semiconductor", "substrate", "ambient", "model"
 #: behind). Its absorption length λ/(4πk) is then over ~0.3 mm at 400 nm: glass, fused silica,
 #: sapphire, water and the low-loss film oxides pass; metals, silicon, ITO and ZnS do not.
 TRANSPARENT_K_OVER_N = 1e-4
+
+#: Smallest |N| = √(n² + k²) of any medium. The lowest of real materials are metals near their
+#: plasma edge (silver, aluminium: |N| ≈ 0.2); a transparent medium with n below 0.01 does not
+#: exist, and an index near zero makes the interface formulas divide zero by zero.
+MIN_INDEX = 1e-2
+#: Largest n or k: far-infrared metals reach a few hundred; anything beyond is a typo and would
+#: overflow the transfer matrices.
+MAX_INDEX = 1e4
+
+
+def check_index(N, label: str, wavelength_nm) -> None:
+    """Refuse indices no medium has: not finite, n < 0, |N| below :data:`MIN_INDEX` or n or k above
+    :data:`MAX_INDEX` (one line naming the material, the wavelength and the value).
+
+    Examples
+    --------
+    >>> check_index([1.5 + 0j, 0.05 + 3j], "mine", [400.0, 500.0])
+    >>> check_index([1e-300 + 0j], "mine", [400.0])
+    Traceback (most recent call last):
+    ...
+    filmoptic.errors.FilmopticError: mine: n = 1e-300, k = 0 at 400 nm is not an optical constant (|N| = √(n² + k²) must be at least 0.01)
+    """
+    N = np.asarray(N, dtype=complex)
+    wl = np.broadcast_to(np.asarray(wavelength_nm, dtype=float), N.shape)
+    finite = np.isfinite(N)
+    if not np.all(finite):
+        where = float(wl[~finite].flat[0])
+        raise FilmopticError(f"{label}: no finite index at {where:g} nm")
+    size = np.abs(N)
+    bad = (N.real < 0) | (size < MIN_INDEX) | (N.real > MAX_INDEX) | (N.imag > MAX_INDEX)
+    if np.any(bad):
+        i = np.flatnonzero(bad.ravel())[0]
+        n, k, where = float(N.real.flat[i]), float(N.imag.flat[i]), float(wl.flat[i])
+        if n < 0:
+            rule = "n must not be negative"
+        elif size.flat[i] < MIN_INDEX:
+            rule = f"|N| = √(n² + k²) must be at least {MIN_INDEX:g}"
+        else:
+            rule = f"n and k must be at most {MAX_INDEX:g}"
+        raise FilmopticError(
+            f"{label}: n = {n:.3g}, k = {k:.3g} at {where:g} nm is not an optical constant ({rule})"
+        )
 
 
 def is_practically_transparent(N) -> bool:
@@ -197,7 +240,13 @@ class Material:
             )
         # k >= 0 by convention; rounding in formulas may leave -1e-17.
         N.imag = np.maximum(N.imag, 0.0)
+        self._check_values(N, wl)
         return N
+
+    def _check_values(self, N, wl) -> None:
+        """Refuse indices no medium has (see :func:`check_index`); models first give their own
+        message for n < 0."""
+        check_index(N, self.label, wl)
 
     def free_parameters(self) -> list:
         """The unknown coefficients as ``[(name, Free), …]`` in reading order; ``[]`` if none."""

@@ -23,6 +23,7 @@ from __future__ import annotations
 import re
 
 from filmoptic.errors import StackSyntaxError
+from filmoptic.limits import NUMBER_CHARACTERS, check_number_text
 from filmoptic.params import Free
 
 from .base import Material
@@ -43,6 +44,9 @@ _CONSTANT_RE = re.compile(rf"^n\s*=\s*({_COEF})(?:\s*([+-])\s*({_UCOEF})\s*\*?\s
 _RANGE_RE = re.compile(rf"^({_NUM})\s*\.\.\s*({_NUM})$")
 _NAME_RE = re.compile(r"^[A-Za-z][A-Za-z0-9_.+\-]*(?:\s*:\s*[A-Za-z0-9][A-Za-z0-9_.+\-]*)?$")
 _CALL_RE = re.compile(r"^([A-Za-z_]+)\s*\((.*)\)$", re.DOTALL)
+
+# Deepest nesting of parentheses (mixes of mixes); real materials nest two or three levels.
+_MAX_NESTING = 32
 
 _MODELS = {
     "cauchy": (Cauchy, "cauchy(A,B,C[,k]) with λ in µm"),
@@ -67,6 +71,10 @@ def parse_coefficient(text: str, what: str = "coefficient"):
     s = str(text).strip()
     if s == "?":
         return Free()
+    try:
+        check_number_text(s, what)
+    except ValueError as exc:
+        raise StackSyntaxError(str(exc)) from None
     m = _RANGE_RE.match(s)
     if m:
         low, high = float(m.group(1)), float(m.group(2))
@@ -84,6 +92,8 @@ def _split_arguments(text: str, where: str) -> list:
     for ch in text:
         if ch == "(":
             depth += 1
+            if depth > _MAX_NESTING:
+                raise StackSyntaxError(f"{where}: parentheses nested more than {_MAX_NESTING} deep")
         elif ch == ")":
             depth -= 1
             if depth < 0:
@@ -125,6 +135,10 @@ def _parse_fraction(text: str):
 
 
 def _parse_constant(text: str) -> Material:
+    if len(text) > 3 * NUMBER_CHARACTERS:
+        raise StackSyntaxError(
+            f"the index {text[:20]!r}… is {len(text)} characters long; write it like n=1.46 or n=2.54+3.43j"
+        )
     m = _CONSTANT_RE.match(text)
     if not m and re.fullmatch(r"n\s*=\s*\d+,\d+", text.strip(), re.IGNORECASE):
         raise StackSyntaxError(

@@ -63,8 +63,14 @@ def _folder_stamp(folder: Path) -> int:
 
 
 def _index():
+    from filmoptic.files import note_input_folder
+
     user = os.environ.get(ENV_VAR, "").strip()
     user_folder = Path(os.path.expanduser(user)) if user else None
+    # Every file in the library folders is an input of the run: no output may land among them.
+    for folder in (shipped_folder(), user_folder):
+        if folder is not None:
+            note_input_folder(folder, tuple(sorted(_SUFFIXES)))
     stamp = _folder_stamp(user_folder) if user_folder else 0
     return _build_index(str(shipped_folder()), str(user_folder) if user_folder else "", stamp)
 

@@ -18,13 +18,9 @@ import numpy as np
 from filmoptic.errors import FilmopticError
 from filmoptic.params import is_free
 
-from .base import Material, check_values, coefficient_text
+from .base import MAX_INDEX, MIN_INDEX, Material, check_index, check_values, coefficient_text
 
 __all__ = ["Constant", "Cauchy", "Sellmeier", "Drude", "Lorentz", "HC_EV_NM", "photon_energy_ev"]
-
-#: Largest n or k a constant index may have: far-infrared metals reach a few hundred; anything
-#: beyond is a typo and would overflow the transfer matrices.
-MAX_INDEX = 1e4
 
 #: Planck constant times speed of light, eV·nm (CODATA 2018 exact values of h, c and e).
 HC_EV_NM = 1239.841984
@@ -97,17 +93,18 @@ class _Model(Material):
             Naming the model, the wavelength and the index, e.g. ``cauchy(1.5,-1,0) gives
             n = −5.43 at 380 nm; a refractive index must be positive``.
         """
-        N = super().nk(wavelength_nm, extrapolate=extrapolate)
+        return super().nk(wavelength_nm, extrapolate=extrapolate)
+
+    def _check_values(self, N, wl) -> None:
         bad = (N.real < 0) | ((N.real == 0) & (N.imag == 0))
         if np.any(bad):
-            wl = np.broadcast_to(np.asarray(wavelength_nm, dtype=float), N.shape)
             worst = np.unravel_index(np.argmin(np.where(bad, N.real, np.inf)), N.shape)
             value = f"{float(N.real[worst]):.3g}".replace("-", "−")
             raise FilmopticError(
                 f"{self.label} gives n = {value} at {float(wl[worst]):g} nm; a refractive index "
                 "must be positive"
             )
-        return N
+        check_index(N, self.label, wl)
 
     def free_parameters(self) -> list:
         return [
@@ -165,6 +162,11 @@ class Constant(_Model):
         n, k = self._coefficients
         if not is_free(n) and n <= 0:
             raise FilmopticError(f"a refractive index must be positive, got n={n:g}")
+        if not is_free(n) and not is_free(k) and abs(complex(n, k)) < MIN_INDEX:
+            raise FilmopticError(
+                f"n={n:.3g}{f'+{k:.3g}j' if k else ''} is not an optical constant: |N| = √(n² + k²) "
+                f"must be at least {MIN_INDEX:g} (no medium has an index near zero)"
+            )
         for name, value in (("n", n), ("k", k)):
             if not is_free(value) and value > MAX_INDEX:
                 raise FilmopticError(

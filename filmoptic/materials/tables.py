@@ -26,7 +26,7 @@ import numpy as np
 
 from filmoptic.errors import DataFileError
 
-from .base import KINDS, Material
+from .base import KINDS, MAX_INDEX, MIN_INDEX, Material
 
 __all__ = ["TabulatedMaterial", "read_header", "read_nk_file", "load_nk_file", "write_nk_file"]
 
@@ -167,6 +167,19 @@ def _check_rows(wl, n, k, label):
     check_wavelength_column(wl, label)
     if np.any(n <= 0):
         raise DataFileError(f"{label}: n must be positive (found {n.min():g})")
+    small = np.hypot(n, k) < MIN_INDEX
+    if np.any(small):
+        i = int(np.argmax(small))
+        raise DataFileError(
+            f"{label}: row {i + 1} (n = {n[i]:.3g}, k = {k[i]:.3g} at {wl[i]:g} nm) is not an optical "
+            f"constant: |N| = √(n² + k²) must be at least {MIN_INDEX:g}"
+        )
+    if np.any(n > MAX_INDEX) or np.any(k > MAX_INDEX):
+        i = int(np.argmax((n > MAX_INDEX) | (k > MAX_INDEX)))
+        raise DataFileError(
+            f"{label}: row {i + 1} (n = {n[i]:.3g}, k = {k[i]:.3g}) is not an optical constant "
+            f"(n and k at most {MAX_INDEX:g})"
+        )
     if np.any(k < 0):
         raise DataFileError(
             f"{label}: k must be >= 0 (found {k.min():g}); filmoptic writes N = n + i·k, so a table "
@@ -201,30 +214,11 @@ def read_header(path) -> dict:
 
 
 def _parse_rows(path) -> np.ndarray:
-    rows = []
+    from filmoptic.files import check_row_count
+
     try:
         with open(path, encoding="utf-8") as fh:
-            for lineno, line in enumerate(fh, 1):
-                stripped = line.split("#", 1)[0].strip()
-                if not stripped:
-                    continue
-                parts = [p for p in re.split(r"[,\s;]+", stripped) if p]
-                try:
-                    values = [float(p) for p in parts]
-                except ValueError:
-                    if not rows:  # a column-title line before the data is fine
-                        continue
-                    raise DataFileError(f"{path}, line {lineno}: expected numbers, got {stripped!r}") from None
-                if len(values) not in (2, 3):
-                    # "1,5" as a decimal comma splits into two columns.
-                    comma = "; write decimals with '.', not ','" if "," in stripped else ""
-                    raise DataFileError(
-                        f"{path}, line {lineno}: expected 2 or 3 columns (wavelength_nm n [k]), "
-                        f"got {len(values)}{comma}"
-                    )
-                if rows and len(values) != len(rows[0]):
-                    raise DataFileError(f"{path}, line {lineno}: every row needs the same number of columns")
-                rows.append(values)
+            lines = fh.read().splitlines()
     except FileNotFoundError:
         raise DataFileError(f"n,k file {path} does not exist") from None
     except IsADirectoryError:
@@ -233,12 +227,58 @@ def _parse_rows(path) -> np.ndarray:
         raise DataFileError(_NOT_TEXT.format(path=path)) from None
     except OSError as exc:
         raise DataFileError(f"cannot read n,k file {path}: {exc.strerror or exc}") from None
-    if not rows:
-        raise DataFileError(f"n,k file {path} has no rows of wavelength_nm n k")
-    table = np.array(rows, dtype=float)
+    check_row_count(len(lines), f"n,k file {path}")
+    table = _fast_table(lines)
+    if table is None:
+        table = _careful_table(lines, path)
     if table.shape[1] == 2:
         table = np.column_stack([table, np.zeros(len(table))])
     return table
+
+
+def _fast_table(lines):
+    """The rows in one vectorised pass (after any title lines), or None to read them carefully."""
+    from filmoptic.files import numeric_rows
+
+    start = 0
+    while start < len(lines) and start < 50:
+        first = re.split(r"[,\s;]+", lines[start].split("#", 1)[0].strip())[0]
+        try:
+            float(first)
+            break
+        except ValueError:
+            start += 1
+    table = numeric_rows([line.replace(",", " ").replace(";", " ") for line in lines[start:]], comments="#")
+    return table if table is not None and table.shape[1] in (2, 3) else None
+
+
+def _careful_table(lines, path) -> np.ndarray:
+    """Line by line, saying which line is wrong (the fast reading found something irregular)."""
+    rows = []
+    for lineno, line in enumerate(lines, 1):
+        stripped = line.split("#", 1)[0].strip()
+        if not stripped:
+            continue
+        parts = [p for p in re.split(r"[,\s;]+", stripped) if p]
+        try:
+            values = [float(p) for p in parts]
+        except ValueError:
+            if not rows:  # a column-title line before the data is fine
+                continue
+            raise DataFileError(f"{path}, line {lineno}: expected numbers, got {stripped[:80]!r}") from None
+        if len(values) not in (2, 3):
+            # "1,5" as a decimal comma splits into two columns.
+            comma = "; write decimals with '.', not ','" if "," in stripped else ""
+            raise DataFileError(
+                f"{path}, line {lineno}: expected 2 or 3 columns (wavelength_nm n [k]), "
+                f"got {len(values)}{comma}"
+            )
+        if rows and len(values) != len(rows[0]):
+            raise DataFileError(f"{path}, line {lineno}: every row needs the same number of columns")
+        rows.append(values)
+    if not rows:
+        raise DataFileError(f"n,k file {path} has no rows of wavelength_nm n k")
+    return np.array(rows, dtype=float)
 
 
 def header_range(header, fallback=None):
@@ -252,7 +292,9 @@ def header_range(header, fallback=None):
 
 def read_nk_file(path, *, name=None) -> TabulatedMaterial:
     """Read an nkdata-format file into a :class:`TabulatedMaterial` (uncached)."""
-    path = Path(path)
+    from filmoptic.files import guard_input
+
+    path = guard_input(path, "n,k file")
     header = read_header(path)
     table = _parse_rows(path)
     wl, n, k = table.T
@@ -317,7 +359,9 @@ def load_nk_file(path) -> TabulatedMaterial:
     -------
     TabulatedMaterial
     """
-    path = Path(os.path.expanduser(str(path)))
+    from filmoptic.files import guard_input
+
+    path = guard_input(path, "n,k file")
     try:
         st = path.stat()
     except FileNotFoundError:
