@@ -44,7 +44,7 @@ CAUTION = (
 
 
 # Options that name files the command writes. An output never replaces one of the command's inputs.
-OUTPUT_OPTIONS = ("--csv", "--plot", "--swatch", "--chart", "--out", "--log")
+OUTPUT_OPTIONS = ("--csv", "--plot", "--swatch", "--chart", "--out", "--log", "--ab-plot")
 _FILE_IN_TEXT = re.compile(r"file:\s*([^\s,()\[\]]+)", re.IGNORECASE)
 
 

@@ -23,6 +23,7 @@ __all__ = [
     "ambient_option",
     "angle_option",
     "extrapolate_option",
+    "paper_option",
     "emit_json",
     "to_jsonable",
     "print_table",
@@ -91,6 +92,13 @@ angle_option = click.option(
 extrapolate_option = click.option(
     "--extrapolate", is_flag=True,
     help="Allow wavelengths outside a table's range by holding its end values (with a warning).",
+)
+
+
+paper_option = click.option(
+    "--paper", type=click.Choice(["a4", "letter"], case_sensitive=False), default="a4", show_default=True,
+    help="Sheet size of a printable chart: ISO A4 or US Letter; the page is written at exactly that "
+         "size, so it prints at true scale.",
 )
 
 
