@@ -51,7 +51,12 @@ def _late_progress(label: str):
 
 
 def _json_payload(result, spectra):
+    from filmoptic.fit import fit_verdict
+
+    verdict = fit_verdict(result)
     return {
+        "verdict": {"explained": verdict.explained, "how_well": verdict.how_well,
+                    "distrust": list(verdict.distrust), "text": verdict.text},
         "model": result.model,
         "parameters": [
             {"name": p.name, "value": p.value,
@@ -64,8 +69,9 @@ def _json_payload(result, spectra):
         "n_parameters": result.n_parameters,
         "correlation": result.correlation,
         "warnings": list(result.warnings),
-        "success": result.success,
-        "message": result.message,
+        "residual_autocorrelation": result.residual_autocorrelation,
+        "converged": result.converged,
+        "stopped_because": result.stopped_because,
         "sigma_source": result.sigma_source,
         "sigma": result.sigma,
         "notes": list(result.notes),
@@ -158,10 +164,19 @@ def fit(model, files, quantities, angle, polarization, ambient, sigma, fit_range
     coefficients, and for a transparent film on glass the envelope method's estimate), then
     refines the best few candidates by bounded least squares and keeps the best.
 
-    Reported: each value with its standard error from the Jacobian at the optimum, the
-    correlation matrix, the reduced χ² and the RMS residual. Warnings flag strongly correlated
-    parameters (|ρ| > 0.95), values the data cannot determine, values stuck at a range end, and
-    a second solution that fits almost as well.
+    The report starts with a verdict: did the model explain the data (yes, partly, no), how
+    well (RMS residual, reduced χ² when σ is known, whether the residuals look like noise), and
+    what to distrust. Then, each under the question it answers: what came out (each value with
+    its standard uncertainty from the Jacobian at the optimum), how closely the model follows
+    the data, which values move together (the correlations, strongest first), what to distrust
+    and why (strongly correlated values, |ρ| > 0.95; values the data cannot fix; values stuck at
+    a range end; a second solution that fits almost as well; residuals with a pattern), and how
+    the search went.
+
+    --json gives verdict (explained, how_well, distrust, text), model, parameters (name, value,
+    stderr, unit), chi2_reduced, rms, residual_autocorrelation, n_points, n_parameters,
+    correlation, warnings, converged, stopped_because, sigma_source, sigma, notes, measured and
+    fitted.
 
     Examples:
 
