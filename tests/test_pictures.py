@@ -146,3 +146,173 @@ def test_swatch_from_the_command_is_a_page(run_cli, tmp_path):
     result = run_cli(["color", "Ti 12nm / glass 4mm", "--swatch", path])
     assert result.exit_code == 0, result.stderr
     assert pdf_page_points(path) == pytest.approx(A4_PT, abs=0.01)
+
+
+# ---------------------------------------------------------------------------------------------
+# Spectra, optical constants, fits
+# ---------------------------------------------------------------------------------------------
+def test_spectrum_plot_and_its_vertical_range():
+    from filmoptic.engine import compute
+    from filmoptic.plots.spectrum import plot_spectrum
+
+    semi_mirror = compute("Ti 12nm / glass 4mm", np.arange(380.0, 781.0, 5.0))
+    look = look_at(plot_spectrum(semi_mirror, title="Ti 12nm / glass 4mm"))
+    assert_reads_well(look)
+    assert "share of the incident light (%)" in look.strings and "wavelength (nm)" in look.strings
+    fig = plot_spectrum(semi_mirror, percent_range="auto")
+    # 'auto' runs from 0 to a round 5 % above the highest curve (A in the layers, about 40 %).
+    top = 100 * max(semi_mirror.R.max(), semi_mirror.T.max(), semi_mirror.A_layers.max())
+    assert fig.axes[0].get_ylim() == (0.0, 5.0 * np.ceil((top + 0.5) / 5.0)) and fig.axes[0].get_ylim()[1] <= 50
+    assert plot_spectrum(semi_mirror, percent_range=(10, 30)).axes[0].get_ylim() == (10.0, 30.0)
+
+
+def test_spectrum_percent_option(run_cli, tmp_path):
+    from conftest import assert_user_error
+
+    result = run_cli(["spectrum", "Ti 12nm / glass 4mm", "--plot", tmp_path / "s.png", "--plot-percent", "0:50"])
+    assert result.exit_code == 0, result.stderr
+    assert_user_error(run_cli(["spectrum", "Ti 12nm / glass 4mm", "--plot", tmp_path / "s.png",
+                               "--plot-percent", "50:10"]), "--plot-percent")
+    assert_user_error(run_cli(["spectrum", "Ti 12nm / glass 4mm", "--plot-percent", "auto"]), "--plot")
+
+
+def test_nk_plot_marks_the_visible_band():
+    from filmoptic.materials import get_material
+    from filmoptic.plots.nk import plot_nk
+
+    wl = np.linspace(300.0, 1900.0, 200)
+    fig = plot_nk([("Johnson-1972", wl, get_material("Au").nk(wl))], title="Au")
+    look = look_at(fig)
+    assert_reads_well(look, unitless=("refractive index n", "extinction coefficient k"))
+    assert "visible, 380–780 nm" in look.strings and "Au" in look.strings
+    # The band is shaded behind both panels, from 380 to 780 nm.
+    for ax in fig.axes:
+        spans = [(p.get_x(), p.get_x() + p.get_width()) for p in ax.patches if hasattr(p, "get_width")]
+        assert any(np.allclose(span, (380.0, 780.0)) for span in spans), spans
+
+
+def test_fit_plot_names_its_axis_and_explains_the_residuals():
+    from filmoptic.engine import compute
+    from filmoptic.fit import fit_spectra
+    from filmoptic.measured import MeasuredSpectrum
+    from filmoptic.plots.fit import plot_fit
+
+    wl = np.arange(400.0, 901.0, 5.0)
+    noise = 0.002 * np.random.default_rng(3).standard_normal(wl.size)
+    T = MeasuredSpectrum(wl, compute("n=2.2 300nm / n=1.5 1mm", wl).T + noise, "T")
+    R = MeasuredSpectrum(wl, compute("n=2.2 300nm / n=1.5 1mm", wl).R - noise, "R")
+    look = look_at(plot_fit(fit_spectra("n=2.2 100..500nm / n=1.5 1mm", T, sigma=0.002)))
+    assert_reads_well(look)
+    text = look.strings
+    assert "transmittance T (%)" in text and "measured − fitted T" in text and "±σ per point (as given)" in text
+    assert text.startswith("Verdict") or "Verdict: the model explains the data" in text
+    both = look_at(plot_fit(fit_spectra("n=2.2 100..500nm / n=1.5 1mm", [T, R])))
+    assert_reads_well(both)
+    assert "transmittance T and reflectance R (%)" in both.strings
+    assert "±σ per point (estimated from the residuals)" in both.strings
+
+
+# ---------------------------------------------------------------------------------------------
+# Tile sheets (anodize --chart, heat-tint --chart)
+# ---------------------------------------------------------------------------------------------
+def test_tile_sheet_fills_a_true_page():
+    from filmoptic.colouring.anodize import anodize_colours
+    from filmoptic.plots.tiles import tile_sheet
+
+    chart = anodize_colours("Ti", np.arange(10.0, 111.0, 5.0))
+    fig = tile_sheet(chart.film.colours, [f"{v:g} V" for v in chart.volts],
+                     [f"{d:.0f} nm" for d in chart.film.thickness_nm], title="Anodised Ti: colour by voltage")
+    look = look_at(fig)
+    assert look.size_in == pytest.approx(A4_IN)
+    assert_reads_well(look, max_gap=0.1)
+    assert "Anodised Ti: colour by voltage" in look.strings and "110 V" in look.strings
+    assert not np.all(chart.film.colours.in_gamut) and "white corner notch" in look.strings
+    # A range with every colour inside sRGB leaves the notch note out.
+    calm = anodize_colours("Ti", np.arange(30.0, 56.0, 5.0))
+    assert np.all(calm.film.colours.in_gamut)
+    text = look_at(tile_sheet(calm.film.colours, ["a"] * 6, ["b"] * 6, title="t", paper="letter")).strings
+    assert "notch" not in text
+
+
+@pytest.mark.parametrize("command, points", [
+    (["anodize", "Ti", "--volts", "10:110:5"], A4_PT),
+    (["heat-tint", "steel", "--range", "0:80:2", "--paper", "letter"], LETTER_PT),
+])
+def test_tile_sheet_pdf_sizes(run_cli, tmp_path, command, points):
+    path = tmp_path / "sheet.pdf"
+    result = run_cli([*command, "--chart", path])
+    assert result.exit_code == 0, result.stderr
+    assert pdf_page_points(path) == pytest.approx(points, abs=0.01)
+
+
+# ---------------------------------------------------------------------------------------------
+# Monitor, design and map figures
+# ---------------------------------------------------------------------------------------------
+def test_monitor_plan_and_run_figures():
+    from filmoptic.monitor.plan import plan_table
+    from filmoptic.monitor.session import Monitor, prepare
+    from filmoptic.plots.monitor import plot_plan, plot_run
+
+    plan = prepare("Ti ? / glass 4mm", source="led:530/30", detector="flat", target_nm=8.77)
+    look = look_at(plot_plan(plan_table(plan, rate_nm_per_s=0.075), title="Ti ? / glass 4mm — plan"))
+    assert_reads_well(look)
+    assert "reading (% of the uncoated part)" in look.strings and "time at 0.075 nm/s (s)" in look.strings
+    monitor = Monitor(plan, reference=1.0)
+    run = [monitor.feed(t, float(plan.model.ratio_at(0.075 * t))) for t in np.arange(0.0, 160.0, 0.5)]
+    look = look_at(plot_run(run, title="replayed run"))
+    assert_reads_well(look)
+    assert "reading (% of the reference)" in look.strings and "stop: " in look.strings
+
+
+def test_design_figure():
+    from filmoptic.design import check_design, parse_goals
+    from filmoptic.plots.design import plot_design
+
+    goals = parse_goals(["luminous-T = 30%", "reflected Lab = 62,0,0 within 2"])
+    result = check_design("SiO2 171.681nm / Cr 7.858nm / TiO2 110.828nm / glass 4mm", goals)
+    look = look_at(plot_design(result, goals))
+    assert_reads_well(look, unitless=("refractive index n\nat 580 nm",))
+    assert "share of the incident light (%)" in look.strings and "1. luminous-T = 30%" in look.strings
+
+
+def test_map_figure():
+    from filmoptic.imaging import map_thickness
+    from filmoptic.imaging.photo import Photo
+    from filmoptic.imaging.render import encode_srgb8, render_transmission
+    from filmoptic.plots.map import plot_thickness_map
+
+    y, x = np.mgrid[0:120, 0:160].astype(float)
+    field = 8.0 + 0.02 * x
+    field[:, :20] = 0.0
+    photo, flat = render_transmission("Ti ? / glass 4mm", field, exposure=0.8)
+    photo, flat = Photo.from_array(encode_srgb8(photo)), Photo.from_array(encode_srgb8(flat))
+    result = map_thickness("Ti ? / glass 4mm", photo, flat=flat, bare=(2, 2, 18, 118), region=(24, 0, 160, 120),
+                           cells=(16, 12))
+    look = look_at(plot_thickness_map(result, photo, bare=(2, 2, 18, 118)))
+    assert_reads_well(look)
+    assert "thickness (nm)" in look.strings and "uniformity ±" in look.strings and "x (px)" in look.strings
+
+
+# ---------------------------------------------------------------------------------------------
+# Every picture the demo writes
+# ---------------------------------------------------------------------------------------------
+def test_every_demo_picture_reads_well(tmp_path, monkeypatch):
+    import filmoptic.plots as plots
+    from filmoptic.demo import colour, spectra, thickness
+
+    seen = {}
+    save = plots.save_figure
+
+    def inspect_then_save(fig, path, *args, **kwargs):
+        look = look_at(fig)
+        seen[path.name] = look
+        return save(fig, path, *args, **kwargs)
+
+    monkeypatch.setattr(plots, "save_figure", inspect_then_save)
+    for part in (spectra, colour, thickness):
+        part.run(tmp_path, lambda line: None)
+    assert {"spectra.png", "colour_oxide_on_titanium.pdf", "colour_semi_mirror_swatch.png", "thickness_lux.png"} <= set(seen)
+    for name, look in seen.items():
+        page = look.size_in == pytest.approx(A4_IN)
+        assert_reads_well(look, unitless=UNITLESS, max_gap=0.12 if page else None)
+        assert page == (name.startswith("colour_oxide") or name.startswith("colour_semi")), name

@@ -90,7 +90,7 @@ def mark_visible_band(ax, *, label: bool = True) -> None:
         return
     ax.axvspan(a, b, color="#fff3c4", alpha=0.55, lw=0, zorder=0)
     if label:
-        ax.text(0.5 * (a + b), 1.0, "visible", transform=ax.get_xaxis_transform(), ha="center",
+        ax.text(0.5 * (a + b), 1.0, "visible, 380–780 nm", transform=ax.get_xaxis_transform(), ha="center",
                 va="bottom", fontsize=7, color="0.35")
     ax.set_xlim(lo, hi)
 
