@@ -48,6 +48,8 @@ MODULES = [
     "filmoptic.ladder",
     "filmoptic.colour_words",
     "filmoptic.views",
+    "filmoptic.explore.grids",
+    "filmoptic.explore.page",
     "filmoptic.plots.nk",
     "filmoptic.plots.spectrum",
     "filmoptic.monitor.signal",

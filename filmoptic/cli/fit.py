@@ -3,8 +3,6 @@
 from __future__ import annotations
 
 import math
-import time
-from contextlib import contextmanager
 
 import click
 
@@ -16,39 +14,10 @@ from filmoptic.cli._common import (
     emit_json,
     extrapolate_option,
     json_option,
+    late_progress,
     save_plot,
     user_errors,
 )
-
-# Work shorter than this finishes before a progress bar would be worth drawing.
-_PROGRESS_AFTER_S = 1.0
-
-
-@contextmanager
-def _late_progress(label: str):
-    """A progress bar that appears on a terminal only once the work has taken over a second."""
-    import sys
-
-    state = {"bar": None, "done": 0, "start": time.monotonic()}
-
-    def report(done: int, total: int) -> None:
-        if not sys.stderr.isatty():
-            return
-        if state["bar"] is None:
-            if time.monotonic() - state["start"] < _PROGRESS_AFTER_S or done >= total:
-                state["done"] = done
-                return
-            state["bar"] = click.progressbar(length=total, label=label, file=sys.stderr)
-            state["bar"].__enter__()
-        state["bar"].update(max(done - state["done"], 0))
-        state["done"] = done
-
-    try:
-        yield report
-    finally:
-        if state["bar"] is not None:
-            state["bar"].__exit__(None, None, None)
-
 
 def _json_payload(result, spectra):
     from filmoptic.fit import fit_verdict
@@ -209,7 +178,7 @@ def fit(model, files, quantities, angle, polarization, ambient, sigma, fit_range
         wl_range = parse_range_nm(fit_range, what="--range") if fit_range else None
         stack = parse_stack(model, ambient=ambient)
         spectra = [read_spectrum(path, quantity=q) for path, q in zip(files, per_file)]
-        with _late_progress("Fitting") as report:
+        with late_progress("Fitting") as report:
             try:
                 result = fit_spectra(
                     stack, spectra, angle_deg=angle, polarization=polarization, sigma=sigma,

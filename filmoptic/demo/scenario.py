@@ -132,3 +132,11 @@ DESIGN_GOALS = ("luminous-T = 30%", "reflected Lab = 62,0,0 within 2")
 DESIGN_SEED = 20261203
 DESIGN_TOLERANCE = "3%"            # each layer within ±3 % of its thickness, spread evenly
 DESIGN_SAMPLES = 2000
+
+# Job 8 (added for the explore page): the titanium tags of job 2 again, now as a page the studio
+# can send to the museum shop by e-mail, so that the buyer can slide the oxide thickness and the
+# viewing angle and see the colours before ordering. Invented: the range the studio offers and the
+# angles the buyer may tilt a tag to.
+EXPLORE_STACK = "TiO2 10..200nm / Ti"      # the oxide thicknesses the studio offers on its tags
+EXPLORE_ANGLES_DEG = (0.0, 75.0, 5.0)     # start, stop, step of the page's angle slider
+EXPLORE_SHOWN_NM = 50.0                   # the thickness the studio quotes for its blue
