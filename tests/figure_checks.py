@@ -88,7 +88,11 @@ def _longest_run(flags) -> int:
 
 
 def look_at(fig, dpi: float = 72) -> Look:
-    """Draw ``fig`` once and return what was drawn (see :class:`Look`)."""
+    """Draw ``fig`` once and return what was drawn (see :class:`Look`).
+
+    The figure is released from pyplot's list afterwards (it stays readable), so that many looks
+    do not pile up open figures.
+    """
     import matplotlib.text
     from matplotlib.backends.backend_agg import FigureCanvasAgg
 
@@ -137,6 +141,9 @@ def look_at(fig, dpi: float = 72) -> Look:
             numbered = any(id(t) in drawn for t in axis.get_ticklabels())
             rulers.append((f"{ax.get_label() or ax.get_title() or 'axes'} {name}", axis.get_label_text(), numbered))
     pixels = np.asarray(canvas.buffer_rgba()).copy()
+    import matplotlib.pyplot as plt
+
+    plt.close(fig)
     return Look(tuple(float(v) for v in fig.get_size_inches()), dpi, texts, pixels, rulers)
 
 

@@ -22,6 +22,15 @@ LETTER_PT = (612.0, 792.0)
 UNITLESS = ("lightness L*", "n", "k")
 
 
+@pytest.fixture(autouse=True)
+def _close_figures():
+    """Figures drawn here and only read (not saved) are closed after each test."""
+    yield
+    import matplotlib.pyplot as plt
+
+    plt.close("all")
+
+
 # ---------------------------------------------------------------------------------------------
 # The colour ladder (sweep --chart) and the a*b* view (sweep --ab-plot)
 # ---------------------------------------------------------------------------------------------
