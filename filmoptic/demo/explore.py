@@ -23,7 +23,7 @@ def run(outdir: pathlib.Path, say) -> None:
 
     outdir = pathlib.Path(outdir)
     grids = explore_grids(sc.EXPLORE_STACK, angles_deg=inclusive_grid(*sc.EXPLORE_ANGLES_DEG))
-    size = write_explore_page(outdir / PAGE_FILE, grids, title=f"Titanium tags: oxide colours ({sc.SCENARIO_NAME})")
+    size = write_explore_page(outdir / PAGE_FILE, grids, title=f"Titanium tags: oxide colours — {sc.SCENARIO_NAME}")
     (free,) = grids.free
     say(f"A page for the museum shop's buyer: {sc.EXPLORE_STACK}, a slider for the oxide from "
         f"{free.values_nm[0]:g} to {free.values_nm[-1]:g} nm every {free.step_nm:g} nm and one for the "

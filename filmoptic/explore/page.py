@@ -273,8 +273,9 @@ _TEMPLATE = r"""<!DOCTYPE html>
                  ["A_layers", "#8c6d46", "film"], ["A_substrate", "#5d5d5d", "substrate"]];
   const bar = document.getElementById("split"), key = document.getElementById("split-key");
   const segments = {};
+  const through = meta.views.some(v => v.key === "transmitted");
   for (const [name, colour, label] of parts) {
-    if (!meta.luminous.includes(name)) continue;
+    if (!meta.luminous.includes(name) || (name === "T" && !through)) continue;
     const seg = document.createElement("div");
     seg.style.background = colour; bar.append(seg); segments[name] = seg;
     const swatch = document.createElement("i"); swatch.style.background = colour;
@@ -365,8 +366,10 @@ _TEMPLATE = r"""<!DOCTYPE html>
   const notes = ["Move a slider to change a thickness or the viewing angle; the values are those at the nearest grid point."];
   meta.free.forEach(f => notes.push(f.label + ": " + f.low + "–" + (+(f.low + f.step * (f.count - 1)).toFixed(3)) +
                                      " nm every " + f.step + " nm."));
-  notes.push("Angles: " + angles.join(", ") + "°. Film side: the coated face; " + meta.back +
-             ": the part turned over; through: the colour of a light box seen through the part.");
+  const words = ["Film side: the coated face"];
+  if (meta.views.some(v => v.key === "reflected_reverse")) words.push(meta.back + ": the part turned over");
+  if (meta.views.some(v => v.key === "transmitted")) words.push("through: the colour of a light box seen through the part");
+  notes.push("Angles: " + angles.join(", ") + "°. " + words.join("; ") + ".");
   document.getElementById("notes").textContent = notes.join(" ");
   window.addEventListener("resize", update);
   update();

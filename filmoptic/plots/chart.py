@@ -265,8 +265,10 @@ def _luminous(ax, ladder):
         handles.append(ax.plot(100 * np.asarray(sweep.luminous_T), y, color="#1f5fa8", lw=1.4, ls="--",
                                label="T, through")[0])
     if sweep.luminous_A_layers is not None:
-        handles.append(ax.plot(100 * np.asarray(sweep.luminous_A_layers), y, color="#7d6608", lw=1.1, ls=":",
-                               label="absorbed in the layers")[0])
+        # A curve that stays at nothing (a clear oxide) is left out, and so is its legend entry.
+        if np.any(np.asarray(sweep.luminous_A_layers) > 1e-4):
+            handles.append(ax.plot(100 * np.asarray(sweep.luminous_A_layers), y, color="#7d6608", lw=1.1, ls=":",
+                                   label="absorbed in the layers")[0])
         if np.any(np.asarray(sweep.luminous_A_substrate) > 1e-4):
             handles.append(ax.plot(100 * np.asarray(sweep.luminous_A_substrate), y, color="0.35", lw=1.1,
                                    ls="-.", label="absorbed in the substrate")[0])
