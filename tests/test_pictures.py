@@ -325,3 +325,11 @@ def test_every_demo_picture_reads_well(tmp_path, monkeypatch):
         page = look.size_in == pytest.approx(A4_IN)
         assert_reads_well(look, unitless=UNITLESS, max_gap=0.12 if page else None)
         assert page == (name.startswith("colour_oxide") or name.startswith("colour_semi")), name
+
+
+def test_tile_sheet_refuses_more_tiles_than_it_can_label(run_cli, tmp_path):
+    from conftest import assert_user_error
+
+    result = run_cli(["anodize", "Ti", "--volts", "0:120:0.5", "--chart", tmp_path / "sheet.png"])
+    assert_user_error(result, "at most 120 tiles", "coarser step")
+    assert not (tmp_path / "sheet.png").exists()

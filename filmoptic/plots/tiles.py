@@ -17,12 +17,14 @@ import numpy as np
 
 from filmoptic.plots import new_page
 
-__all__ = ["tile_sheet", "A4_PORTRAIT_IN"]
+__all__ = ["tile_sheet", "A4_PORTRAIT_IN", "MAX_TILES"]
 
 #: A4 portrait, inches (ISO 216: 210 × 297 mm).
 A4_PORTRAIT_IN = (210 / 25.4, 297 / 25.4)
 _MARGIN, _HEADER, _LABELS, _GAP = 0.55, 1.15, 0.5, 0.12
 _MAX_TILE_IN = 2.6
+#: Most tiles a sheet holds with their labels readable.
+MAX_TILES = 120
 
 
 def _layout(count: int, width: float, height: float) -> tuple[int, float, float]:
@@ -65,10 +67,15 @@ def tile_sheet(colours, labels, sublabels, *, title: str, subtitle: str = "", no
     """
     from matplotlib.patches import Polygon, Rectangle
 
+    from filmoptic.errors import FilmopticError
+
     rgb = np.asarray(colours.rgb8, dtype=float).reshape(-1, 3) / 255.0
     hexes = np.asarray(colours.hex).reshape(-1)
     gamut = np.asarray(colours.in_gamut, dtype=bool).reshape(-1)
     count = rgb.shape[0]
+    if count > MAX_TILES:
+        raise FilmopticError(f"a sheet holds at most {MAX_TILES} tiles with readable labels, this one would have "
+                             f"{count}: chart a coarser step")
     fig = new_page(paper)
     W, H = (float(v) for v in fig.get_size_inches())
     footer = list(notes)
