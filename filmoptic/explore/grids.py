@@ -287,52 +287,56 @@ def explore_grids(stack, *, step_nm: float | None = None, angles_deg=None, range
     block = max(1, POINTS_PER_CALL // (A * wl.size))
     starts = list(range(0, S, block))
 
-    R_front, T_front, AL, AS, R_back = [], [], [], [], []
+    # Each block is reduced at once to what the page keeps (colours, luminous values, every other
+    # wavelength of R and T), so memory follows the block, not the whole set of spectra.
+    kept = {name: [] for name in ("curve R", "curve T", *LUMINOUS_NAMES, *(f"{k}:{part}" for k in keys
+                                                               for part in ("Lab", "rgb8", "hex", "in_gamut")))}
     calls = len(starts) * (2 if has_back else 1)
     done = 0
     for start in starts:
         chunk = sets[start:start + block]
         front = compute(stack, wl, angle_deg=angles, polarization="unpolarized", thickness_nm=chunk,
                         extrapolate=extrapolate)                     # (chunk, A, W)
-        R_front.append(front.R)
-        T_front.append(front.T)
-        AL.append(front.A_layers)
-        AS.append(front.A_substrate)
         done += 1
+        back = None
         if has_back:
             back = compute(stack, wl, angle_deg=angles, polarization="unpolarized", reverse=True,
                            thickness_nm=chunk, extrapolate=extrapolate)
-            R_back.append(back.R)
             done += 1
+        spectra = {"reflected": front.R, "transmitted": front.T, "reflected_reverse": None if back is None else back.R,
+                   "R": front.R, "T": front.T, "R_reverse": None if back is None else back.R,
+                   "A_layers": front.A_layers, "A_substrate": front.A_substrate}
+        for key in keys:
+            colour = colour_of(wl, spectra[key], illuminant, obs)
+            for part in ("Lab", "rgb8", "hex", "in_gamut"):
+                kept[f"{key}:{part}"].append(np.asarray(getattr(colour, part)))
+        for name in LUMINOUS_NAMES:
+            if spectra[name] is not None:
+                kept[name].append(luminous(wl, spectra[name], illuminant))
+        kept["curve R"].append(front.R[..., ::CURVE_STRIDE])
+        kept["curve T"].append(front.T[..., ::CURVE_STRIDE])
+        meaning = front.transmission
         if progress is not None:
             progress(done, calls)
-        meaning = front.transmission
     shape = (A, *[f.values_nm.size for f in free], *([1] if len(free) == 1 else []))
 
-    def grid(values):
-        """(S, A, …) → (A, n1, n2, …)."""
-        values = np.concatenate(values, axis=0)
+    def grid(name):
+        """Blocks of (chunk, A, …) → (A, n1, n2, …)."""
+        values = np.concatenate(kept[name], axis=0)
         return np.moveaxis(values, 1, 0).reshape(*shape, *values.shape[2:])
 
-    spectra = {"reflected": R_front, "transmitted": T_front, "reflected_reverse": R_back}
     views = {}
     for key in keys:
-        values = grid(spectra[key])
-        colour = colour_of(wl, values, illuminant, obs)
-        lab = np.asarray(colour.Lab, dtype=float)
+        lab = grid(f"{key}:Lab").astype(float)
         views[key] = {
-            "Lab": lab, "rgb8": np.asarray(colour.rgb8, dtype=np.uint8), "hex": np.asarray(colour.hex),
-            "in_gamut": np.asarray(colour.in_gamut, dtype=bool),
+            "Lab": lab, "rgb8": grid(f"{key}:rgb8").astype(np.uint8), "hex": grid(f"{key}:hex"),
+            "in_gamut": grid(f"{key}:in_gamut").astype(bool),
             "word": np.asarray(colour_words(lab), dtype=object).reshape(shape),
         }
-    lum = {
-        "T": luminous(wl, grid(T_front), illuminant), "R": luminous(wl, grid(R_front), illuminant),
-        "R_reverse": luminous(wl, grid(R_back), illuminant) if has_back else None,
-        "A_layers": luminous(wl, grid(AL), illuminant), "A_substrate": luminous(wl, grid(AS), illuminant),
-    }
+    lum = {name: grid(name) if kept[name] else None for name in LUMINOUS_NAMES}
     return ExploreGrids(
         stack=getattr(stack, "text", str(stack)), ambient=str(getattr(stack.ambient, "name", "air")),
         illuminant=label, observer=obs, free=free, angle_deg=angles, curve_wavelength_nm=curve_wl,
-        views=views, view_names=view_names(stack), luminous=lum,
-        R=grid(R_front)[..., ::CURVE_STRIDE], T=grid(T_front)[..., ::CURVE_STRIDE], transmission=meaning,
+        views=views, view_names=view_names(stack), luminous=lum, R=grid("curve R"), T=grid("curve T"),
+        transmission=meaning,
     )
