@@ -333,3 +333,14 @@ def test_tile_sheet_refuses_more_tiles_than_it_can_label(run_cli, tmp_path):
     result = run_cli(["anodize", "Ti", "--volts", "0:120:0.5", "--chart", tmp_path / "sheet.png"])
     assert_user_error(result, "at most 120 tiles", "coarser step")
     assert not (tmp_path / "sheet.png").exists()
+
+
+def test_long_stacks_keep_their_heading_on_the_page():
+    from filmoptic.plots.chart import ladder_chart
+
+    stack = "[TiO2 55nm / SiO2 92nm]x4 / Al2O3 ? / [TiO2 55nm / SiO2 92nm]x4 / glass 1mm"
+    look = look_at(ladder_chart(colour_ladder(stack, np.arange(0.0, 201.0, 2.0))))
+    assert_reads_well(look, unitless=UNITLESS, max_gap=0.08)
+    assert f"Colour ladder: {stack}" in look.strings
+    _, sheet = _sheet(stack.replace("?", "80nm"))
+    assert_reads_well(look_at(sheet), max_gap=0.12)

@@ -16,7 +16,7 @@ import os
 from pathlib import Path
 
 __all__ = ["new_figure", "new_page", "save_figure", "is_page", "PAPER_SIZES_IN", "page_size_in",
-           "VISIBLE_NM", "mark_visible_band"]
+           "VISIBLE_NM", "mark_visible_band", "heading_size"]
 
 _MM = 1 / 25.4
 
@@ -80,6 +80,20 @@ def new_page(paper: str = "a4", landscape: bool = False):
 def is_page(fig) -> bool:
     """True for a figure made by :func:`new_page` (saved at its paper size, not trimmed)."""
     return str(fig.get_label()).startswith(_PAGE_LABEL)
+
+
+def heading_size(text: str, width_in: float, largest: float = 14.0) -> float:
+    """Font size (pt) at which a bold heading fits ``width_in`` inches: ``largest`` for short ones,
+    smaller for a long stack (never below 8 pt).
+
+    Examples
+    --------
+    >>> heading_size("Colour ladder: TiO2 ? / Ti", 7.0), round(heading_size("x" * 120, 7.0), 1)
+    (14.0, 8.0)
+    """
+    # A bold sans-serif character is about 0.62 em wide on average.
+    fits = width_in * 72.0 / (0.62 * max(len(text), 1))
+    return float(max(8.0, min(largest, fits)))
 
 
 def mark_visible_band(ax, *, label: bool = True) -> None:

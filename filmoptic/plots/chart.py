@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from filmoptic.plots import new_figure, new_page
+from filmoptic.plots import heading_size, new_figure, new_page
 
 __all__ = ["ladder_chart", "ab_chart", "thickness_ticks"]
 
@@ -200,7 +200,8 @@ def ladder_chart(ladder, *, title: str | None = None, paper: str = "a4"):
         labels[-1].set_horizontalalignment("right")
 
     heading = title or f"Colour ladder: {sweep.stack_text}"
-    fig.text(left / W, 1 - 0.45 / H, heading, fontsize=14, fontweight="bold", va="center")
+    fig.text(left / W, 1 - 0.45 / H, heading, fontsize=heading_size(heading, W - left - right), fontweight="bold",
+             va="center")
     fig.text(left / W, 1 - 0.75 / H,
              f"{sweep.illuminant} light · {sweep.observer}° observer · seen at {sweep.angle_deg:g}° in "
              f"{sweep.ambient} · run tolerance {ladder.tolerance_text}"

@@ -16,7 +16,7 @@ import textwrap
 
 import numpy as np
 
-from filmoptic.plots import new_page
+from filmoptic.plots import heading_size, new_page
 
 __all__ = ["swatch_figure"]
 
@@ -126,7 +126,8 @@ def swatch_figure(result, *, stack_text: str, ambient: str = "air", angle_deg: f
     angle_h = (free - view_h * len(views)) / len(views) if angles else 0.0
     angle_h = min(max(angle_h, 0.4), 2.6)
 
-    ax.text(margin, margin, f"Colour sheet: {stack_text}", fontsize=14, fontweight="bold", va="center")
+    heading = f"Colour sheet: {stack_text}"
+    ax.text(margin, margin, heading, fontsize=heading_size(heading, W - 2 * margin), fontweight="bold", va="center")
     ax.text(margin, margin + 0.34,
             f"{result.illuminant} light · {result.observer}° observer · seen at {angle_deg:g}° · in {ambient}",
             fontsize=9, va="center", color="0.25")

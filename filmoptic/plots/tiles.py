@@ -15,7 +15,7 @@ import textwrap
 
 import numpy as np
 
-from filmoptic.plots import new_page
+from filmoptic.plots import heading_size, new_page
 
 __all__ = ["tile_sheet", "A4_PORTRAIT_IN", "MAX_TILES"]
 
@@ -110,7 +110,7 @@ def tile_sheet(colours, labels, sublabels, *, title: str, subtitle: str = "", no
         ax.text(centre, y + tile_h + 0.28, sublabels[i], ha="center", va="center", fontsize=small, color="0.25")
         ax.text(centre, y + tile_h + 0.42, str(hexes[i]), ha="center", va="center", fontsize=small - 0.5,
                 color="0.45", family="monospace")
-    ax.text(_MARGIN, 0.5, title, fontsize=16, fontweight="bold", va="center")
+    ax.text(_MARGIN, 0.5, title, fontsize=heading_size(title, W - 2 * _MARGIN, 16.0), fontweight="bold", va="center")
     if subtitle:
         ax.text(_MARGIN, 0.82, subtitle, fontsize=9, va="center", color="0.25")
     ax.text(_MARGIN, H - foot_h + 0.12, wrapped, fontsize=7.2, color="0.3", va="top", linespacing=1.4)
