@@ -137,7 +137,11 @@ def test_command_table_json_and_file(run_cli, tmp_path):
     assert result.exit_code == 0, result.stderr
     assert "TiO2 thickness" in result.stdout and "nothing comes through" in result.stdout
     assert out.read_text(encoding="utf-8").startswith("<!DOCTYPE html>")
-    data = json.loads(run_cli(["explore", "Ti ? / glass 4mm", "--out", out, "--step", "1nm", "--json"]).stdout)
+    assert "Caution:" not in out.read_text(encoding="utf-8")       # nothing comes through: no filter to misuse
+    result = run_cli(["explore", "Ti ? / glass 4mm", "--out", out, "--step", "1nm", "--json"])
+    # 100 nm of titanium passes almost nothing: the eye caution, once on stderr and once on the page.
+    assert result.stderr.count("CAUTION") == 1 and out.read_text(encoding="utf-8").count("Caution:") == 1
+    data = json.loads(result.stdout)
     assert set(data) == {"out", "bytes", "stack", "sliders", "angles_deg", "points", "views", "curve_wavelength_nm",
                          "illuminant", "observer", "ambient", "transmission"}
     assert data["sliders"] == [{"name": "Ti thickness (layer 1)", "label": "Ti", "low_nm": 0.0, "high_nm": 100.0,

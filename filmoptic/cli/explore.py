@@ -13,7 +13,7 @@ from filmoptic.cli._common import (
     print_table,
     user_errors,
 )
-from filmoptic.cli.color import illuminant_option, observer_option
+from filmoptic.cli.color import LOW_LIGHT_CAUTION, LOW_LIGHT_LIMIT, caution_if_dark, illuminant_option, observer_option
 
 __all__ = ["explore"]
 
@@ -31,6 +31,19 @@ def _ranges(texts, count):
         raise FilmopticError(f"--range: give it once per free thickness ({count}), in the stack's order; "
                              f"got {len(texts)}")
     return [parse_range_nm(text, what="--range")[:2] for text in texts]
+
+
+def _page_caution(grids):
+    """The eye caution for the foot of the page, when some setting lets little light through."""
+    import numpy as np
+
+    if "transmitted" not in grids.views:
+        return None
+    T = np.asarray(grids.luminous["T"])
+    passing = T[T > 1e-6]
+    if passing.size and passing.min() < LOW_LIGHT_LIMIT:
+        return "Caution: " + LOW_LIGHT_CAUTION.format(t=f"{100 * passing.min():.2f}")
+    return None
 
 
 def _check_page_path(path):
@@ -97,7 +110,7 @@ def explore(stack, out_path, open_page, range_texts, step_text, angles_text, max
     Colours on screen depend on the screen; compare real parts under the light you work in.
     """
     from filmoptic.colorimetry import check_illuminant, check_observer
-    from filmoptic.explore import explore_grids, low_light_caution, write_explore_page
+    from filmoptic.explore import explore_grids, write_explore_page
     from filmoptic.stack import parse_stack
     from filmoptic.units import parse_angles_deg, parse_length_nm
 
@@ -113,7 +126,7 @@ def explore(stack, out_path, open_page, range_texts, step_text, angles_text, max
             grids = explore_grids(parsed, step_nm=step, angles_deg=angles, ranges_nm=ranges,
                                   illuminant=illuminant, observer=observer, extrapolate=extrapolate,
                                   max_mb=max_mb, progress=report)
-        size = write_explore_page(path, grids)
+        size = write_explore_page(path, grids, caution=_page_caution(grids))
 
     sliders = [{"name": f.name, "label": f.label, "low_nm": float(f.values_nm[0]), "high_nm": float(f.values_nm[-1]),
                 "step_nm": f.step_nm, "count": int(f.values_nm.size)} for f in grids.free]
@@ -138,11 +151,8 @@ def explore(stack, out_path, open_page, range_texts, step_text, angles_text, max
         click.echo(f"views: {views}" + ("" if "transmitted" in grids.views else " (nothing comes through)"))
         click.echo(f"Page written to {path} ({size / 1e6:.2f} MB, {grids.points} grid points): open it in any "
                    "browser; it needs no network.")
-    caution = low_light_caution(grids)
-    if caution:
-        from filmoptic.cli._common import echo_caution
-
-        echo_caution(caution.removeprefix("Caution: "))
+    if "transmitted" in grids.views:
+        caution_if_dark(grids.luminous["T"])
     if open_page:
         import webbrowser
         from pathlib import Path

@@ -12,29 +12,15 @@ from .grids import DEFAULT_ANGLES_DEG, DEFAULT_MAX_MB, ExploreGrids, FreeThickne
 from .page import explore_page
 
 __all__ = ["explore_grids", "explore_page", "write_explore_page", "ExploreGrids", "FreeThickness",
-           "DEFAULT_ANGLES_DEG", "DEFAULT_MAX_MB", "low_light_caution"]
+           "DEFAULT_ANGLES_DEG", "DEFAULT_MAX_MB"]
 
 
-def low_light_caution(grids) -> str | None:
-    """The eye caution, when some of the page's settings let through little light (and some)."""
-    import numpy as np
-
-    from filmoptic.cli.color import LOW_LIGHT_CAUTION, LOW_LIGHT_LIMIT
-
-    if "transmitted" not in grids.views:
-        return None
-    T = np.asarray(grids.luminous["T"])
-    passing = T[T > 1e-6]
-    if passing.size and passing.min() < LOW_LIGHT_LIMIT:
-        return "Caution: " + LOW_LIGHT_CAUTION.format(t=f"{100 * passing.min():.2f}")
-    return None
-
-
-def write_explore_page(path, grids, *, title=None):
-    """Write the page of ``grids`` to ``path`` (whole, through a temporary file); returns its size in bytes."""
+def write_explore_page(path, grids, *, title=None, caution=None):
+    """Write the page of ``grids`` to ``path`` (whole, through a temporary file); returns its size in
+    bytes. ``caution`` is a safety note shown once at the foot of the page."""
     from filmoptic.files import write_atomically
 
-    text = explore_page(grids, title=title, caution=low_light_caution(grids))
+    text = explore_page(grids, title=title, caution=caution)
     data = text.encode("utf-8")
     write_atomically(path, lambda fh: fh.write(data), mode="wb")
     return len(data)
