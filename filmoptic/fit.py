@@ -77,6 +77,9 @@ __all__ = [
     "FitParameter",
     "FittedSpectrum",
     "FitResult",
+    "Doubt",
+    "FitVerdict",
+    "fit_verdict",
     "fit_spectra",
     "parameter_bounds",
     "format_value",
@@ -153,6 +156,27 @@ class FittedSpectrum:
 
 
 @dataclass(frozen=True)
+class Doubt:
+    """Something the user should know before trusting a fit.
+
+    Attributes
+    ----------
+    kind : str
+        ``"half-space"``, ``"not identifiable"``, ``"correlated"``, ``"at bound"``, ``"misfit"``
+        (reduced χ² far above 1), ``"sigma too large"``, ``"pattern"`` (structured residuals),
+        ``"alternative"`` (another minimum fits almost as well) or ``"not converged"``.
+    parameters : tuple of str
+        The parameters concerned (empty when the doubt is about the fit as a whole).
+    text : str
+        One sentence for people (what :attr:`FitResult.warnings` lists).
+    """
+
+    kind: str
+    parameters: tuple
+    text: str
+
+
+@dataclass(frozen=True)
 class FitResult:
     """Outcome of :func:`fit_spectra`.
 
@@ -170,8 +194,10 @@ class FitResult:
     warnings : tuple of str
     fitted : tuple of FittedSpectrum
         Measured and model curves, one per measured spectrum.
-    success : bool
-    message : str
+    converged : bool
+        Whether the local refinement of the best start met its convergence test.
+    stopped_because : str
+        Why the refinement stopped, in the optimiser's words.
     model : str
         The model stack as written.
     stack : filmoptic.stack.Stack
@@ -184,6 +210,10 @@ class FitResult:
         How many starting points the local refinement ran from.
     notes : tuple of str
         How the search went (grid size, envelope estimate).
+    doubts : tuple of Doubt
+        The warnings with what they concern (the verdict is built from them).
+    residual_autocorrelation : float
+        Pooled lag-1 autocorrelation of the residuals: about 0 for noise, near 1 for a pattern.
     """
 
     parameters: tuple
@@ -194,14 +224,16 @@ class FitResult:
     n_parameters: int
     warnings: tuple
     fitted: tuple
-    success: bool
-    message: str
+    converged: bool
+    stopped_because: str
     model: str = ""
     stack: object = None
     sigma_source: str = "residuals"
     sigma: float | None = None
     starts: int = 0
     notes: tuple = ()
+    doubts: tuple = ()
+    residual_autocorrelation: float = 0.0
 
     def value(self, name_fragment: str) -> FitParameter:
         """The first parameter whose name contains ``name_fragment`` (case-insensitive)."""
@@ -591,8 +623,9 @@ def fit_spectra(model, measured, *, angle_deg: float = 0.0, polarization: str = 
         sigma_est, variance_scale, chi2_reduced = None, 1.0, chi2_weighted / dof
     stderr, corr, null = _uncertainties(best.jac, lo, hi, variance_scale)
     names = [p.name for p in stack.parameters]
-    warnings_out = _warnings(problem, names, best, results, lo, hi, stderr, corr, null,
-                             sigma_source, chi2_reduced, variance_scale)
+    rho1 = _lag1_autocorrelation(problem, best.fun)
+    doubts = _doubts(problem, names, best, results, lo, hi, stderr, corr, null, sigma_source,
+                     chi2_reduced, variance_scale, rho1)
 
     model_values = problem.model(best.x)
     fitted, start = [], 0
@@ -610,10 +643,10 @@ def fit_spectra(model, measured, *, angle_deg: float = 0.0, polarization: str = 
                          for i in range(P)),
         correlation=corr, chi2_reduced=float(chi2_reduced),
         rms=float(np.sqrt(np.mean((model_values - problem.data) ** 2))),
-        n_points=N, n_parameters=P, warnings=tuple(warnings_out), fitted=tuple(fitted),
-        success=bool(best.success), message=str(best.message), model=str(stack),
+        n_points=N, n_parameters=P, warnings=tuple(d.text for d in doubts), fitted=tuple(fitted),
+        converged=bool(best.success), stopped_because=str(best.message), model=str(stack),
         stack=stack.bind(best.x), sigma_source=sigma_source, sigma=sigma_est, starts=len(chosen),
-        notes=tuple(notes),
+        notes=tuple(notes), doubts=tuple(doubts), residual_autocorrelation=float(rho1),
     )
 
 
@@ -774,42 +807,45 @@ def _lag1_autocorrelation(problem, residuals) -> float:
     return num / den if den > 0 else 0.0
 
 
-def _warnings(problem, names, best, results, lo, hi, stderr, corr, null, sigma_source,
-              chi2_reduced, variance_scale) -> list:
+def _doubts(problem, names, best, results, lo, hi, stderr, corr, null, sigma_source,
+            chi2_reduced, variance_scale, rho1) -> list:
     """Everything the user should know before trusting the numbers (see the module docstring)."""
     out = []
     stack, x, P = problem.stack, best.x, len(names)
     if any(s.quantity == "T" for s in problem.spectra) and stack.substrate.thickness_nm is None:
-        out.append("the substrate is a half-space, so the model ignores its back side; for a "
-                   "measured T write its thickness (e.g. 'glass 1mm')")
+        out.append(Doubt("half-space", (), "the substrate is a half-space, so the model ignores its back "
+                         "side; for a measured T write its thickness (e.g. 'glass 1mm')"))
     for i in np.flatnonzero(null):
-        out.append(f"{names[i]} is not identifiable from these data (the spectrum does not depend "
-                   "on it independently of the others); fix it or measure more")
+        out.append(Doubt("not identifiable", (names[i],),
+                         f"{names[i]} is not identifiable from these data (the spectrum does not depend "
+                         "on it independently of the others); fix it or measure more"))
     for i in range(P):
         for j in range(i + 1, P):
             if np.isfinite(corr[i, j]) and abs(corr[i, j]) > CORRELATION_LIMIT:
-                out.append(f"{names[i]} and {names[j]} are strongly correlated (ρ = {corr[i, j]:+.3f}): "
-                           "the data hardly tell them apart; fix one, or add R to T or a wider range")
+                out.append(Doubt("correlated", (names[i], names[j]),
+                                 f"{names[i]} and {names[j]} are strongly correlated (ρ = {corr[i, j]:+.3f}): "
+                                 "the data hardly tell them apart; fix one, or add R to T or a wider range"))
     # least_squares keeps strictly inside the box, so "at a bound" means within a hair of it.
     hair = 1e-6 * (hi - lo)
     at_bound = np.where(best.active_mask != 0, best.active_mask,
                         np.where(x - lo <= hair, -1, np.where(hi - x <= hair, 1, 0)))
     for i in np.flatnonzero(at_bound):
         side = "lower" if at_bound[i] < 0 else "upper"
-        out.append(f"{names[i]} stopped at the {side} end of its range ({lo[i]:g}..{hi[i]:g}); its "
-                   "error bar ignores the bound — widen the range or check the model")
+        out.append(Doubt("at bound", (names[i],),
+                         f"{names[i]} stopped at the {side} end of its range ({lo[i]:g}..{hi[i]:g}); its "
+                         "error bar ignores the bound — widen the range or check the model"))
     if sigma_source != "residuals":
         if chi2_reduced > 4.0:
-            out.append(f"reduced χ² = {chi2_reduced:.3g}: the model does not describe the data within "
-                       "their uncertainties (model incomplete, or σ too small); error bars are too small")
+            out.append(Doubt("misfit", (), f"reduced χ² = {chi2_reduced:.3g}: the model does not describe the "
+                             "data within their uncertainties (model incomplete, or σ too small); error bars "
+                             "are too small"))
         elif chi2_reduced < 0.25:
-            out.append(f"reduced χ² = {chi2_reduced:.3g}: the residuals are much smaller than σ (σ too "
-                       "large?); error bars are too large")
-    rho1 = _lag1_autocorrelation(problem, best.fun)
+            out.append(Doubt("sigma too large", (), f"reduced χ² = {chi2_reduced:.3g}: the residuals are much "
+                             "smaller than σ (σ too large?); error bars are too large"))
     if rho1 > AUTOCORRELATION_LIMIT:
-        out.append(f"the residuals follow a pattern (lag-1 autocorrelation {rho1:.2f}), not noise: the "
-                   "model misses something (a layer, dispersion, absorption, roughness), so the values "
-                   "are biased and the error bars too small")
+        out.append(Doubt("pattern", (), f"the residuals follow a pattern (lag-1 autocorrelation {rho1:.2f}), "
+                         "not noise: the model misses something (a layer, dispersion, absorption, roughness), "
+                         "so the values are biased and the error bars too small"))
     if not np.any(null):
         t_slots = problem.thickness_slots or list(range(P))
         margin = 3 * np.where(np.isfinite(stderr), stderr, 0.0) + 1e-6 * (hi - lo)
@@ -818,12 +854,93 @@ def _warnings(problem, names, best, results, lo, hi, stderr, corr, null, sigma_s
             if other is not best and delta < ALTERNATIVE_DELTA_CHI2 and np.any(
                     (np.abs(other.x - x) > margin)[t_slots]):
                 shown = ", ".join(f"{names[i]} {other.x[i]:.4g}" for i in range(P))
-                out.append(f"another solution fits almost as well (Δχ² = {delta:.2g}): {shown}; "
-                           "narrow the ranges or widen the wavelength range to decide")
+                out.append(Doubt("alternative", tuple(names[i] for i in t_slots),
+                                 f"another solution fits almost as well (Δχ² = {delta:.2g}): {shown}; "
+                                 "narrow the ranges or widen the wavelength range to decide"))
                 break
     if not best.success:
-        out.append(f"the optimiser did not converge: {best.message}")
+        out.append(Doubt("not converged", (), f"the optimiser did not converge: {best.message}"))
     return out
+
+
+@dataclass(frozen=True)
+class FitVerdict:
+    """The one-line answer a fit report starts with.
+
+    Attributes
+    ----------
+    explained : str
+        ``"yes"`` (the model follows the data to within their noise), ``"partly"`` (it follows
+        them, but leaves a pattern or misses them by more than their uncertainty) or ``"no"``
+        (the search did not converge, or the model misses the data by far).
+    how_well : str
+        The size of the residuals, in words and numbers.
+    distrust : tuple of str
+        What not to take at face value, each with its reason in brackets.
+    text : str
+        The whole line.
+    """
+
+    explained: str
+    how_well: str
+    distrust: tuple
+    text: str
+
+
+#: A reduced χ² above this (σ given) means the model misses the data by far.
+FAR_MISFIT_CHI2 = 25.0
+
+_DISTRUST = {
+    "not identifiable": "{p} (the data do not fix it)",
+    "at bound": "{p} (stopped at the end of its range)",
+    "correlated": "{p} (the data hardly tell them apart)",
+    "alternative": "the thickness (another fringe order fits almost as well)",
+    "half-space": "T near the substrate's own absorption (its back side is left out)",
+    "misfit": "the error bars (too small: the model misses the data)",
+    "sigma too large": "the error bars (too large: σ is larger than the scatter)",
+    "pattern": "the error bars and small differences (the residuals have a pattern)",
+    "not converged": "every value (the search stopped before converging)",
+}
+
+
+def fit_verdict(result: FitResult) -> FitVerdict:
+    """Did the model explain the data, how well, and what to distrust — from a :class:`FitResult`.
+
+    Examples
+    --------
+    >>> from filmoptic.measured import MeasuredSpectrum
+    >>> from filmoptic.engine import compute
+    >>> wl = np.arange(400.0, 901.0, 5.0)
+    >>> T = compute("n=2.2 300nm / n=1.5 1mm", wl, angle_deg=0.0).T
+    >>> noise = 0.002 * np.random.default_rng(1).standard_normal(wl.size)
+    >>> result = fit_spectra("n=2.2 100..500nm / n=1.5 1mm", MeasuredSpectrum(wl, T + noise, "T"))
+    >>> verdict = fit_verdict(result)
+    >>> verdict.explained, verdict.distrust
+    ('yes', ())
+    >>> verdict.text.startswith("Verdict: the model explains the data (RMS residual 0.17 % of T")
+    True
+    """
+    kinds = {d.kind for d in result.doubts}
+    quantities = "/".join(dict.fromkeys(f.quantity for f in result.fitted)) or "the data"
+    how_well = f"RMS residual {100 * result.rms:.2g} % of {quantities}"
+    if result.sigma_source != "residuals":
+        how_well += f", reduced χ² {result.chi2_reduced:.2g}"
+    how_well += (", a pattern left in the residuals" if "pattern" in kinds else ", residuals like noise")
+    if "not converged" in kinds or ("misfit" in kinds and result.chi2_reduced > FAR_MISFIT_CHI2):
+        explained, opening = "no", "the model does not explain the data"
+    elif kinds & {"pattern", "misfit"}:
+        explained, opening = "partly", "the model explains the data only in part"
+    else:
+        explained, opening = "yes", "the model explains the data"
+    distrust = []
+    for d in result.doubts:
+        if d.kind in _DISTRUST:
+            item = _DISTRUST[d.kind].format(p=" and ".join(d.parameters))
+            if item not in distrust:
+                distrust.append(item)
+    tail = "distrust " + "; ".join(distrust) if distrust else "nothing flagged to distrust"
+    text = f"Verdict: {opening} ({how_well}); {tail}."
+    return FitVerdict(explained, how_well, tuple(distrust), text)
 
 
 # ----------------------------------------------------------------------------------------------
@@ -847,61 +964,56 @@ def format_value(value: float, stderr: float) -> tuple[str, str]:
     return f"{value:.{digits}f}", f"{stderr:.{digits}f}"
 
 
-def _text_table(headers, rows) -> list[str]:
-    rows = [[str(c) for c in row] for row in rows]
-    widths = [max([len(h)] + [len(r[i]) for r in rows]) for i, h in enumerate(headers)]
-
-    def numeric(text):
-        try:
-            float(text.replace("+", ""))
-            return True
-        except ValueError:
-            return text == "–"
-
-    def line(cells):
-        return "  ".join(c.rjust(w) if numeric(c) else c.ljust(w) for c, w in zip(cells, widths)).rstrip()
-
-    return [line(headers), "  ".join("-" * w for w in widths), *(line(r) for r in rows)]
-
-
 def format_report(result: FitResult, spectra=()) -> str:
     """The fit as a readable text report (what ``filmoptic fit`` prints).
 
-    ``spectra`` (the :class:`~filmoptic.measured.MeasuredSpectrum` objects that were fitted) adds
-    their file names and reading notes.
+    It starts with the verdict (:func:`fit_verdict`); each section after it is headed by the
+    question it answers. ``spectra`` (the :class:`~filmoptic.measured.MeasuredSpectrum` objects
+    that were fitted) adds their file names and reading notes.
     """
-    out = [f"Fit of {result.model}"]
+    verdict = fit_verdict(result)
     names = ", ".join(f"{f.quantity} {f.path.rsplit('/', 1)[-1] if f.path else '(data)'}"
                       for f in result.fitted)
-    out.append(f"to {result.n_points} points ({names}); {result.n_parameters} parameter(s)")
-    out.append("")
-    rows = []
+    out = [verdict.text, "",
+           f"Model {result.model}, fitted to {result.n_points} points ({names}); "
+           f"{result.n_parameters} value(s) free.", ""]
+
+    out.append("What came out? (each value ± its standard uncertainty)")
+    width = max(len(p.name) for p in result.parameters)
     for p in result.parameters:
         value, err = format_value(p.value, p.stderr)
-        rows.append([p.name, value, err, p.unit])
-    out += _text_table(["parameter", "value", "± std. error", "unit"], rows)
-    out.append("")
+        err = "not fixed by the data" if err == "–" else err
+        out.append(f"  {p.name.ljust(width)}  {value} ± {err}{(' ' + p.unit) if p.unit else ''}")
+
+    out += ["", "How closely does the model follow the data?"]
+    out.append(f"  RMS residual: {100 * result.rms:.3g} % (absolute, in % of T or R)")
     if result.sigma_source == "residuals":
-        out.append(f"σ per point: estimated from the residuals, {100 * result.sigma:.3g} % "
-                   "(so the reduced χ² is 1 by construction)")
+        out.append(f"  σ per point: estimated from the residuals, {100 * result.sigma:.3g} % (so the reduced "
+                   "χ² is 1 by construction)")
     else:
         source = "the files' uncertainty column" if result.sigma_source == "file" else "the given σ"
-        out.append(f"σ per point: from {source}; reduced χ² = {result.chi2_reduced:.3g}")
-    out.append(f"RMS residual: {100 * result.rms:.3g} % (absolute, in % of T or R)")
+        out.append(f"  σ per point: from {source}; reduced χ² = {result.chi2_reduced:.3g} (about 1 when the "
+                   "model explains the data within their noise)")
+    pattern = "a pattern" if result.residual_autocorrelation > AUTOCORRELATION_LIMIT else "like noise"
+    out.append(f"  residuals: {pattern} (lag-1 autocorrelation {result.residual_autocorrelation:+.2f}; "
+               "about 0 for noise, near 1 for a missed feature)")
+
     P = result.n_parameters
     if P > 1:
-        out.append("")
-        labels = [f"p{i + 1}" for i in range(P)]
-        rows = []
-        for i, p in enumerate(result.parameters):
-            short = p.name if len(p.name) <= 30 else p.name[:29] + "…"
-            cells = ["–" if not math.isfinite(c) else f"{c:+.3f}" for c in result.correlation[i]]
-            rows.append([f"{labels[i]} {short}", *cells])
-        out += _text_table(["correlation", *labels], rows)
+        out += ["", "Which values move together? (correlation ρ; ±1: one can stand in for the other)"]
+        pairs = sorted(((abs(result.correlation[i, j]) if math.isfinite(result.correlation[i, j]) else 2.0, i, j)
+                        for i in range(P) for j in range(i + 1, P)), reverse=True)
+        for size, i, j in pairs:
+            rho = result.correlation[i, j]
+            shown = "–" if not math.isfinite(rho) else f"{rho:+.3f}"
+            degree = ("not determined" if size > 1 else "strongly" if size > CORRELATION_LIMIT
+                      else "noticeably" if size > 0.5 else "little")
+            out.append(f"  {result.parameters[i].name} and {result.parameters[j].name}: ρ = {shown} ({degree})")
+
+    if result.warnings:
+        out += ["", "What to distrust, and why?", *(f"  ! {w}" for w in result.warnings)]
     notes = [f"{s.path.name if s.path else 'data'}: {n}" for s in spectra for n in s.notes]
     notes += list(result.notes)
     if notes:
-        out += ["", "Notes:", *(f"  - {n}" for n in notes)]
-    if result.warnings:
-        out += ["", "Warnings:", *(f"  ! {w}" for w in result.warnings)]
+        out += ["", "How did the search go?", *(f"  - {n}" for n in notes)]
     return "\n".join(out)

@@ -64,7 +64,10 @@ def test_bad_candidates():
 def test_cli_table_and_json(run_cli):
     result = run_cli(["compare", "Ti", "Cr", "--on", "glass 4mm", "--luminous-T", "30%"])
     assert result.exit_code == 0, result.stderr
-    assert "Ti" in result.stdout and "Cr" in result.stdout and "C* refl" in result.stdout
+    assert "Ti" in result.stdout and "Cr" in result.stdout
+    # The coater's words: film side and glass side; Tv/Rv only as the ISO 9050 luminous values.
+    assert "Rv glass %" in result.stdout and "C* film side" in result.stdout and "C* through" in result.stdout
+    assert "back" not in result.stdout
     data = json.loads(run_cli(["compare", "Ti", "Cr", "--on", "glass 4mm", "--luminous-T", "30%", "--json"]).stdout)
     assert [c["material"] for c in data["candidates"]] == ["Ti", "Cr"]
     assert all(np.isfinite(c["thickness_nm"]) for c in data["candidates"])

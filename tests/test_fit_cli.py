@@ -49,10 +49,15 @@ def test_table_report(run_cli, measured_files):
     result = run_cli(["fit", "TiO2 ? / glass 1mm", "--measured", t_path])
     assert result.exit_code == 0, result.stderr
     assert "TiO2 thickness (layer 1)" in result.stdout
-    assert "reduced χ²" in result.stdout and "RMS residual" in result.stdout
-    assert "rows sorted" in result.stdout
-    line = next(l for l in result.stdout.splitlines() if l.startswith("TiO2 thickness"))
-    value, err = float(line.split()[-3]), float(line.split()[-2])
+    lines = result.stdout.splitlines()
+    # A verdict first, then sections named by the question they answer.
+    assert lines[0].startswith("Verdict: the model explains the data (RMS residual")
+    assert lines[0].endswith("nothing flagged to distrust.")
+    for question in ("What came out?", "How closely does the model follow the data?", "How did the search go?"):
+        assert any(l.startswith(question) for l in lines), question
+    assert "reduced χ²" in result.stdout and "rows sorted" in result.stdout
+    line = next(l for l in lines if l.strip().startswith("TiO2 thickness"))
+    value, err = float(line.split()[-4]), float(line.split()[-2])
     assert abs(value - THICKNESS_NM) < 3 * err
 
 
@@ -64,8 +69,13 @@ def test_json_with_T_and_R(run_cli, measured_files):
     data = json.loads(result.stdout)             # stdout holds JSON only
     # No progress bar off a terminal: stderr holds only the notes on how each file was read.
     assert all(line.startswith("filmoptic: note: read ") for line in result.stderr.splitlines())
-    for key in ("parameters", "chi2_reduced", "rms", "correlation", "warnings", "n_points", "model"):
+    for key in ("parameters", "chi2_reduced", "rms", "correlation", "warnings", "n_points", "model",
+                "converged", "stopped_because", "residual_autocorrelation"):
         assert key in data
+    # Our own keys: the optimiser's result-object names are gone.
+    assert "success" not in data and "message" not in data
+    assert data["verdict"]["explained"] == "yes" and data["verdict"]["distrust"] == []
+    assert data["verdict"]["text"].startswith("Verdict: the model explains the data")
     (p,) = data["parameters"]
     assert set(p) == {"name", "value", "stderr", "unit"} and p["unit"] == "nm"
     assert abs(p["value"] - THICKNESS_NM) < 3 * p["stderr"]

@@ -33,6 +33,7 @@ COMMANDS = {
     "monitor": ("filmoptic.cli.monitor", "monitor", "Thickness, rate and time to stop from a live light signal."),
     "map": ("filmoptic.cli.map", "map_command", "Thickness and uniformity of a film from a photo of the part."),
     "design": ("filmoptic.cli.design", "design", "Design layers that meet goals, and the yield of a design."),
+    "explore": ("filmoptic.cli.explore", "explore", "Write a page to play with a stack's thicknesses in a browser."),
     "materials": ("filmoptic.cli.materials", "materials", "List the optical-constant library, or show one material."),
     "demo": ("filmoptic.cli.demo", "demo", "Run the built-in worked example and write its tables and plots."),
 }
@@ -45,7 +46,7 @@ CAUTION = (
 
 
 # Options that name files the command writes. An output never replaces one of the command's inputs.
-OUTPUT_OPTIONS = ("--csv", "--plot", "--swatch", "--chart", "--out", "--log")
+OUTPUT_OPTIONS = ("--csv", "--plot", "--swatch", "--chart", "--out", "--log", "--ab-plot")
 # "file:" in a stack or material, in any letter case; the path runs to the next white space.
 _FILE_IN_TEXT = re.compile(r"file:\s*(\S+)", re.IGNORECASE)
 

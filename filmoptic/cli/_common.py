@@ -23,6 +23,7 @@ __all__ = [
     "ambient_option",
     "angle_option",
     "extrapolate_option",
+    "paper_option",
     "emit_json",
     "to_jsonable",
     "print_table",
@@ -31,6 +32,7 @@ __all__ = [
     "check_output_path",
     "save_plot",
     "progress",
+    "late_progress",
     "echo_caution",
     "WavelengthsType",
     "FractionType",
@@ -98,6 +100,13 @@ class PolarizationType(click.Choice):
     def convert(self, value, param, ctx):
         chosen = super().convert(value, param, ctx)
         return "unpolarized" if str(chosen).lower().startswith("unpolari") else str(chosen).lower()
+
+
+paper_option = click.option(
+    "--paper", type=click.Choice(["a4", "letter"], case_sensitive=False), default="a4", show_default=True,
+    help="Sheet size of a printable chart: ISO A4 or US Letter; the page is written at exactly that "
+         "size, so it prints at true scale.",
+)
 
 
 class WavelengthsType(click.ParamType):
@@ -257,6 +266,39 @@ def progress(length: int, label: str):
             yield bar.update
     else:
         yield lambda n=1: None
+
+
+# Work shorter than this finishes before a progress bar would be worth drawing.
+_PROGRESS_AFTER_S = 1.0
+
+
+@contextmanager
+def late_progress(label: str):
+    """A progress bar that appears on a terminal only once the work has taken over a second.
+
+    Yields a callable ``report(done, total)``.
+    """
+    import time
+
+    state = {"bar": None, "done": 0, "start": time.monotonic()}
+
+    def report(done: int, total: int) -> None:
+        if not sys.stderr.isatty():
+            return
+        if state["bar"] is None:
+            if time.monotonic() - state["start"] < _PROGRESS_AFTER_S or done >= total:
+                state["done"] = done
+                return
+            state["bar"] = click.progressbar(length=total, label=label, file=sys.stderr)
+            state["bar"].__enter__()
+        state["bar"].update(max(done - state["done"], 0))
+        state["done"] = done
+
+    try:
+        yield report
+    finally:
+        if state["bar"] is not None:
+            state["bar"].__exit__(None, None, None)
 
 
 def echo_caution(text: str, as_json: bool = False) -> None:

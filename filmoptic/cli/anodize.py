@@ -14,6 +14,7 @@ from filmoptic.cli._common import (
     echo_caution,
     emit_json,
     json_option,
+    paper_option,
     percent,
     print_table,
     save_plot,
@@ -133,10 +134,12 @@ def _head(chart, key):
 @observer_option
 @angle_option
 @click.option("--chart", "chart_path", metavar="FILE",
-              help="Write a printable A4 sheet of colour tiles for the --volts range: .png, .svg or .pdf.")
+              help="Write a printable sheet of colour tiles (one A4 or --paper letter page) for the --volts "
+                   "range: .png, .svg or .pdf.")
+@paper_option
 @json_option
 def anodize(metal, volts_text, at_text, hex_, lab, max_delta_e, nm_per_volt, offset_nm, oxide, illuminant,
-            observer, angle, chart_path, as_json):
+            observer, angle, chart_path, paper, as_json):
     """Colour of an anodised valve metal against the anodising voltage, and the voltages for a colour.
 
     METAL is Ti, Nb, Ta, Al or Zr (any case; NAME:DATASET picks the metal's optical data, e.g.
@@ -234,6 +237,7 @@ def anodize(metal, volts_text, at_text, hex_, lab, max_delta_e, nm_per_volt, off
             notes=[f"Law: {law.source}.", chart.oxide_note[0].upper() + chart.oxide_note[1:] +
                    f"; metal data: {film.stack_text.split(' / ')[-1]}.",
                    "Baths differ: check the voltages on an offcut before a run."],
+            paper=paper,
         )
         with user_errors():
             save_plot(fig, chart_path)

@@ -12,6 +12,7 @@ from filmoptic.cli._common import (
     emit_json,
     extrapolate_option,
     json_option,
+    paper_option,
     percent,
     print_table,
     save_plot,
@@ -50,16 +51,14 @@ LOW_LIGHT_CAUTION = (
     "certified filter."
 )
 LOW_LIGHT_LIMIT = 0.10
+#: Angles the colour sheet shows when --angles is not given.
+SHEET_ANGLES_DEG = (0.0, 20.0, 40.0, 60.0)
 
 
 #: Below a table where a colour marked '*' is shown gamut-mapped (shared with sweep).
 OUT_OF_GAMUT_NOTE = "* outside the sRGB gamut: shown with reduced chroma at the same lightness and hue."
 
-_VIEWS = (
-    ("reflected", "reflected, coated side"),
-    ("reflected_reverse", "reflected, substrate side"),
-    ("transmitted", "transmitted"),
-)
+_VIEW_KEYS = ("reflected", "reflected_reverse", "transmitted")
 
 
 def colour_json(colour) -> dict:
@@ -70,32 +69,33 @@ def colour_json(colour) -> dict:
     }
 
 
-def _colour_row(label, colour) -> list:
+def _colour_row(label, colour, notation, value) -> list:
+    from filmoptic.colour_words import colour_word
+
     L, a, b = (float(v) for v in colour.Lab)
     _, C, h = (float(v) for v in colour.LCh)
     x, y = (float(v) for v in colour.xy)
     mark = "" if colour.in_gamut else " *"
-    return [label, f"{L:.1f}", f"{a:+.1f}", f"{b:+.1f}", f"{C:.1f}", f"{h:.0f}",
-            f"{x:.4f}", f"{y:.4f}", f"{float(colour.XYZ[1]):.2f}", colour.hex + mark]
+    return [label, colour_word(colour.Lab), f"{L:.1f}", f"{a:+.1f}", f"{b:+.1f}", f"{C:.1f}", f"{h:.0f}",
+            colour.hex + mark, f"{float(colour.XYZ[1]):.2f}", f"{x:.4f}", f"{y:.4f}", notation, percent(value)]
 
 
-def _main_tables(result, title, stack=None) -> None:
-    rows = []
-    for key, label in _VIEWS:
-        colour = getattr(result, key)
-        if colour is not None:
-            rows.append(_colour_row(label, colour))
-    print_table(["view", "L*", "a*", "b*", "C*", "h°", "x", "y", "Y", "sRGB"], rows, title=title)
-    if stack is not None:
-        echo_surface_oxides(stack)
+def _main_tables(result, title, stack) -> None:
+    """One table, a row per way the part is seen, in the coater's words; the absorbed light beneath."""
+    from filmoptic.views import view_names
+
+    names = view_names(stack)
     lum = result.luminous
-    click.echo("")
-    lum_rows = [["transmittance T", percent(lum.T)], ["reflectance R, coated side", percent(lum.R)]]
-    if lum.R_reverse is not None:
-        lum_rows.append(["reflectance R, substrate side", percent(lum.R_reverse)])
-    lum_rows += [["absorbed in the layers", percent(lum.A_layers)],
-                 ["absorbed in the substrate", percent(lum.A_substrate)]]
-    print_table(["luminous value", "%"], lum_rows)
+    luminous = {"reflected": ("Rv", lum.R), "reflected_reverse": ("Rv", lum.R_reverse),
+                "transmitted": ("Tv", lum.T)}
+    rows = [_colour_row(names[key], getattr(result, key), *luminous[key])
+            for key in _VIEW_KEYS if getattr(result, key) is not None]
+    print_table(["seen from", "colour", "L*", "a*", "b*", "C*", "h°", "sRGB", "Y", "x", "y", "ISO 9050", "%"],
+                rows, title=title)
+    echo_surface_oxides(stack)
+    where = "glass" if names["reflected_reverse"] == "glass side" else "substrate"
+    click.echo(f"absorbed (luminous): {percent(lum.A_layers)} % in the film, {percent(lum.A_substrate)} % "
+               f"in the {where}" + ("; through: none" if result.transmitted is None else ""))
     note = transmission_note(result.transmission)
     if note:
         click.echo(note)
@@ -105,30 +105,38 @@ def _angle_rows(angles, result) -> list:
     rows = []
     for i, angle in enumerate(angles):
         row = [f"{angle:g}"]
-        for key, _ in _VIEWS:
+        for key in _VIEW_KEYS:
             colour = getattr(result, key)
             if colour is None:
                 continue
             one = colour[i]
             L, a, b = (float(v) for v in one.Lab)
             row += [f"{L:.1f}", f"{a:+.1f}", f"{b:+.1f}", one.hex + ("" if one.in_gamut else " *")]
-        row += [percent(result.luminous.T[i]), percent(result.luminous.R[i])]
+        row += [percent(result.luminous.R[i])]
         if result.luminous.R_reverse is not None:
             row.append(percent(result.luminous.R_reverse[i]))
+        row.append(percent(result.luminous.T[i]))
         row += [percent(result.luminous.A_layers[i]), percent(result.luminous.A_substrate[i])]
         rows.append(row)
     return rows
 
 
-def _angle_headers(result) -> list:
+def _angle_headers(result, stack) -> list:
+    from filmoptic.views import view_names
+
+    names = view_names(stack)
+    short = {"reflected": "film", "reflected_reverse": names["reflected_reverse"].split()[0],
+             "transmitted": "through"}
     headers = ["angle°"]
-    for key, short in (("reflected", "R"), ("reflected_reverse", "Rrev"), ("transmitted", "T")):
+    for key in _VIEW_KEYS:
         if getattr(result, key) is None:
             continue
-        headers += [f"{short} L*", f"{short} a*", f"{short} b*", f"{short} sRGB"]
-    has_reverse = result.reflected_reverse is not None
-    headers += ["T lum %", "R lum %"] + (["Rrev lum %"] if has_reverse else [])
-    return headers + ["A layers %", "A substrate %"]
+        headers += [f"{short[key]} L*", f"{short[key]} a*", f"{short[key]} b*", f"{short[key]} sRGB"]
+    headers.append("Rv film %")
+    if result.luminous.R_reverse is not None:
+        headers.append(f"Rv {short['reflected_reverse']} %")
+    where = "glass" if short["reflected_reverse"] == "glass" else "subst."
+    return headers + ["Tv %", "A film %", f"A {where} %"]
 
 
 def _luminous_json(lum, index=None) -> dict:
@@ -176,11 +184,13 @@ def caution_if_dark(luminous_T) -> None:
 @ambient_option
 @click.option(
     "--swatch", "swatch_path", metavar="FILE",
-    help="Write a printable swatch (about 15 cm wide) of the colours with their values: .png, .svg or .pdf.",
+    help="Write a printable colour sheet (one page, A4 or --paper letter) of the part's colours with "
+         "their values: .png, .svg or .pdf.",
 )
+@paper_option
 @extrapolate_option
 @json_option
-def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extrapolate, as_json):
+def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, paper, extrapolate, as_json):
     """Colour and luminous values of STACK seen in reflection and transmission.
 
     STACK is written in the order light meets it and must have no unknowns, e.g.
@@ -189,8 +199,10 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
         filmoptic color "TiO2 60nm / Ti"
         filmoptic color "Ti 12nm / glass 4mm" --illuminant A --angles 0:60:15
 
-    Three colours are reported: reflected from the coated side, reflected from the substrate side
-    (only when the substrate is a slab with a thickness, such as 'glass 4mm'), and transmitted.
+    Three colours are reported, in the words of the trade: the film side (light reflected by the
+    coated face), the glass side (the part turned over: only when the substrate is a slab with a
+    thickness, such as 'glass 4mm'; the back side when the slab is not glass), and through (the
+    light that comes through the part).
     Each is given as CIE XYZ (Y from 0 to 100), chromaticity x, y, CIELAB L*, a*, b*, chroma C*
     and hue angle h, and the sRGB colour a screen would show. CIELAB uses the illuminant's own
     white, so a neutral grey has a* = b* = 0 under any light; for display, colours are adapted to
@@ -204,9 +216,14 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
     half-space). For a transparent half-space such as 'glass' without a thickness, T is the
     light that enters it, and the output says so once.
 
-    Luminous transmittance and reflectance follow ISO 9050 (the light's spectrum × the eye's
-    daylight sensitivity V(λ), 380–780 nm); with another --illuminant its spectrum replaces D65.
-    Light is unpolarised.
+    Luminous transmittance Tv and reflectance Rv follow ISO 9050 (the light's spectrum × the
+    eye's daylight sensitivity V(λ), 380–780 nm); with another --illuminant its spectrum replaces
+    D65. Light is unpolarised.
+
+    --swatch writes a colour sheet to hold beside the part: a large patch per view with its
+    name and numbers (the through view drawn as the part on a lit light box; none for a part that
+    lets nothing through), a bar of where the light goes, and the part seen at an angle (the
+    --angles, or 0, 20, 40 and 60° when none are given).
 
     With --json the output holds the keys reflected, reflected_reverse (null for a half-space
     substrate), transmitted (null when no light comes through), luminous (T, R, R_reverse,
@@ -238,10 +255,16 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
     if swatch_path:
         # Written before anything is printed, so that a failure leaves no half report on stdout.
         from filmoptic.plots.swatch import swatch_figure
+        from filmoptic.views import back_side
 
         with user_errors():
-            fig = swatch_figure(result, stack_text=stack, ambient=ambient, angle_deg=angle,
-                                by_angle=by_angle, angles_deg=angle_list)
+            sheet_angles, sheet = angle_list, by_angle
+            if sheet_angles is None:
+                sheet_angles = np.array(SHEET_ANGLES_DEG)
+                sheet = appearance(parsed, illuminant=illuminant, observer=obs, angle_deg=sheet_angles,
+                                   extrapolate=extrapolate)
+            fig = swatch_figure(result, stack_text=stack, ambient=ambient, angle_deg=angle, by_angle=sheet,
+                                angles_deg=sheet_angles, paper=paper, back_side=back_side(parsed))
             save_plot(fig, swatch_path)
 
     if as_json:
@@ -257,12 +280,11 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, extr
             payload["angles"] = _angles_json(angle_list, by_angle)
         emit_json(payload)
     else:
-        title = (f"Colour of {stack!r} — illuminant {label}, {obs}° observer, {angle:g}° incidence, "
-                 f"ambient {ambient}")
+        title = f"Colour of {stack!r} — {label} light, {obs}° observer, seen at {angle:g}°, in {ambient}"
         _main_tables(result, title, parsed)
         if by_angle is not None:
             click.echo("")
-            print_table(_angle_headers(by_angle), _angle_rows(angle_list, by_angle),
+            print_table(_angle_headers(by_angle, parsed), _angle_rows(angle_list, by_angle),
                         title="Colour versus viewing angle")
         flagged = [result.reflected, result.reflected_reverse, result.transmitted]
         if by_angle is not None:

@@ -63,14 +63,22 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
     'filmoptic solve' takes (--luminous-T, --luminous-R, --T-at, --R-at, --lab, --hex, --reading),
     and its first answer is summarised:
 
+    Two tables answer two questions. How much light, and where does it go:
+
     \b
-      thickness   the thinnest layer that meets the target (or best colour match)
-      Tv, Rv      luminous transmittance and reflectance from the coated side (ISO 9050, D65)
-      Rv back     luminous reflectance seen through the substrate
-      A film      luminous-weighted absorptance of the layer (light turned into heat in the film)
-      A subst     the same for the substrate (a glass plate's own absorption)
-      C* refl/trans  CIELAB chroma of the tint: 0 is neutral grey, above ~5 a visible tint
-      per nm      how far a 1 nm thickness error moves the target (percentage points, or ΔE00)
+      thickness    the thinnest layer that meets the target (or best colour match)
+      Tv           luminous transmittance (ISO 9050, D65): the light through the part
+      Rv film      luminous reflectance of the film side (ISO 9050)
+      Rv glass     the same seen from the glass side (the back side, for other substrates)
+      in film      light absorbed in the layer (turned into heat), luminous-weighted
+      in glass     the same in the substrate (a glass plate's own absorption)
+
+    What tint, and how touchy is the thickness:
+
+    \b
+      film side, glass side, through   CIELAB chroma C* of the tint seen there: 0 is neutral
+                   grey, above about 5 a visible tint
+      per nm       how far a 1 nm thickness error moves the target (percentage points, or ΔE00)
 
     Example:
 
@@ -118,25 +126,33 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
         click.echo(f"Condition: {c.label()}" + ("" if c.kind == "colour" else f" = {percent(c.value)} %"))
     click.echo(f"Substrate: {table.substrate}")
     click.echo("")
-    headers = ["material", "thickness (nm)", "Tv %", "Rv %", "Rv back %", "A film %", "A subst %",
-               "C* refl", "C* back",
-               "C* trans", "ΔE00 per nm" if colour_target else "% per nm"]
-    rows = []
-    notes = []
+    from filmoptic.stack import parse_stack
+    from filmoptic.views import back_side
+
+    back = back_side(parse_stack(table.substrate, ambient=ambient)).split()[0]
+    where = "glass" if back == "glass" else "subst."
+    light, tint, notes = [], [], []
     for c in table.candidates:
         if c.thickness_nm is None:
-            rows.append([c.material, "out of reach"] + ["–"] * (len(headers) - 2))
+            light.append([c.material, "out of reach"] + ["–"] * 5)
+            tint.append([c.material] + ["–"] * 4)
             notes.append(f"{c.material}: {c.note}")
             continue
         thickness = f"{c.thickness_nm:.2f}"
         if c.high_nm is not None and c.high_nm > c.low_nm:
             thickness += f" ({c.low_nm:.1f}–{c.high_nm:.1f})"
         change = _num(c.change_per_nm, ".3f") if colour_target else percent(c.change_per_nm, 3)
-        rows.append([c.material, thickness, percent(c.luminous_T), percent(c.luminous_R),
-                     percent(c.luminous_R_reverse), percent(c.absorptance_layers),
-                     percent(c.absorptance_substrate), _num(c.reflected_chroma, ".1f"),
-                     _num(c.reflected_reverse_chroma, ".1f"), _num(c.transmitted_chroma, ".1f"), change])
-    print_table(headers, rows)
+        light.append([c.material, thickness, percent(c.luminous_T), percent(c.luminous_R),
+                      percent(c.luminous_R_reverse), percent(c.absorptance_layers),
+                      percent(c.absorptance_substrate)])
+        tint.append([c.material, _num(c.reflected_chroma, ".1f"), _num(c.reflected_reverse_chroma, ".1f"),
+                     _num(c.transmitted_chroma, ".1f"), change])
+    print_table(["material", "thickness (nm)", "Tv %", "Rv film %", f"Rv {back} %", "in film %",
+                 f"in {where} %"], light, title="How much light, and where it goes (luminous, ISO 9050)")
+    click.echo("")
+    print_table(["material", "C* film side", f"C* {back} side", "C* through",
+                 "ΔE00 per nm" if colour_target else "% per nm"], tint,
+                title="What tint (CIELAB chroma), and how touchy the thickness is")
     for note in notes:
         click.echo(note)
     if any(c.solutions > 1 for c in table.candidates):

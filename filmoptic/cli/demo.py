@@ -18,6 +18,7 @@ SECTIONS = (
     ("monitor", "Stopping a run from a light signal: a replayed (synthetic) semi-mirror run"),
     ("map", "Thickness map of the door glass from a (synthetic) light-box photo"),
     ("design", "A protected semi-mirror with a neutral tint, and its yield at ±3 %"),
+    ("explore", "A page to slide through the tags' oxide colours, for the shop's buyer"),
 )
 
 

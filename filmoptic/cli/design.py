@@ -11,13 +11,12 @@ from filmoptic.cli._common import (
     emit_json,
     extrapolate_option,
     json_option,
+    late_progress,
     percent,
     print_table,
     save_plot,
     user_errors,
 )
-# The progress bar that appears only once work has taken over a second (shared with `fit`).
-from filmoptic.cli.fit import _late_progress as late_progress
 # A design that passes less light than this gets the eye caution (the same rule as `solve`).
 from filmoptic.cli.solve import EYE_CAUTION, EYE_CAUTION_BELOW
 

@@ -3,8 +3,6 @@
 from __future__ import annotations
 
 import math
-import time
-from contextlib import contextmanager
 
 import click
 
@@ -17,42 +15,18 @@ from filmoptic.cli._common import (
     emit_json,
     extrapolate_option,
     json_option,
+    late_progress,
     save_plot,
     user_errors,
 )
 
-# Work shorter than this finishes before a progress bar would be worth drawing.
-_PROGRESS_AFTER_S = 1.0
-
-
-@contextmanager
-def _late_progress(label: str):
-    """A progress bar that appears on a terminal only once the work has taken over a second."""
-    import sys
-
-    state = {"bar": None, "done": 0, "start": time.monotonic()}
-
-    def report(done: int, total: int) -> None:
-        if not sys.stderr.isatty():
-            return
-        if state["bar"] is None:
-            if time.monotonic() - state["start"] < _PROGRESS_AFTER_S or done >= total:
-                state["done"] = done
-                return
-            state["bar"] = click.progressbar(length=total, label=label, file=sys.stderr)
-            state["bar"].__enter__()
-        state["bar"].update(max(done - state["done"], 0))
-        state["done"] = done
-
-    try:
-        yield report
-    finally:
-        if state["bar"] is not None:
-            state["bar"].__exit__(None, None, None)
-
-
 def _json_payload(result, spectra):
+    from filmoptic.fit import fit_verdict
+
+    verdict = fit_verdict(result)
     return {
+        "verdict": {"explained": verdict.explained, "how_well": verdict.how_well,
+                    "distrust": list(verdict.distrust), "text": verdict.text},
         "model": result.model,
         "parameters": [
             {"name": p.name, "value": p.value,
@@ -65,8 +39,9 @@ def _json_payload(result, spectra):
         "n_parameters": result.n_parameters,
         "correlation": result.correlation,
         "warnings": list(result.warnings),
-        "success": result.success,
-        "message": result.message,
+        "residual_autocorrelation": result.residual_autocorrelation,
+        "converged": result.converged,
+        "stopped_because": result.stopped_because,
         "sigma_source": result.sigma_source,
         "sigma": result.sigma,
         "notes": list(result.notes),
@@ -159,10 +134,19 @@ def fit(model, files, quantities, angle, polarization, ambient, sigma, fit_range
     coefficients, and for a transparent film on glass the envelope method's estimate), then
     refines the best few candidates by bounded least squares and keeps the best.
 
-    Reported: each value with its standard error from the Jacobian at the optimum, the
-    correlation matrix, the reduced χ² and the RMS residual. Warnings flag strongly correlated
-    parameters (|ρ| > 0.95), values the data cannot determine, values stuck at a range end, and
-    a second solution that fits almost as well.
+    The report starts with a verdict: did the model explain the data (yes, partly, no), how
+    well (RMS residual, reduced χ² when σ is known, whether the residuals look like noise), and
+    what to distrust. Then, each under the question it answers: what came out (each value with
+    its standard uncertainty from the Jacobian at the optimum), how closely the model follows
+    the data, which values move together (the correlations, strongest first), what to distrust
+    and why (strongly correlated values, |ρ| > 0.95; values the data cannot fix; values stuck at
+    a range end; a second solution that fits almost as well; residuals with a pattern), and how
+    the search went.
+
+    --json gives verdict (explained, how_well, distrust, text), model, parameters (name, value,
+    stderr, unit), chi2_reduced, rms, residual_autocorrelation, n_points, n_parameters,
+    correlation, warnings, converged, stopped_because, sigma_source, sigma, notes, measured and
+    fitted.
 
     Examples:
 
@@ -195,7 +179,7 @@ def fit(model, files, quantities, angle, polarization, ambient, sigma, fit_range
         wl_range = parse_range_nm(fit_range, what="--range") if fit_range else None
         stack = parse_stack(model, ambient=ambient)
         spectra = [read_spectrum(path, quantity=q) for path, q in zip(files, per_file)]
-        with _late_progress("Fitting") as report:
+        with late_progress("Fitting") as report:
             try:
                 result = fit_spectra(
                     stack, spectra, angle_deg=angle, polarization=polarization, sigma=sigma,

@@ -10,6 +10,7 @@ from filmoptic.cli._common import (
     echo_caution,
     emit_json,
     json_option,
+    paper_option,
     percent,
     print_table,
     save_plot,
@@ -46,10 +47,12 @@ NO_TEMPERATURE = ("Only thickness is computed: the temperature and time that gro
 @observer_option
 @angle_option
 @click.option("--chart", "chart_path", metavar="FILE",
-              help="Write a printable A4 sheet of colour tiles for the --range thicknesses: .png, .svg or .pdf.")
+              help="Write a printable sheet of colour tiles (one A4 or --paper letter page) for the --range "
+                   "thicknesses: .png, .svg or .pdf.")
+@paper_option
 @json_option
 def heat_tint(model_name, range_text, at_text, hex_, lab, max_delta_e, oxide, metal, illuminant, observer, angle,
-              chart_path, as_json):
+              chart_path, paper, as_json):
     """Temper colours of steel and heat tint of stainless steel and copper, against oxide thickness.
 
     MODEL is steel (temper colours), stainless-steel (also: stainless) or copper. Each model is one
@@ -127,7 +130,7 @@ def heat_tint(model_name, range_text, at_text, hex_, lab, max_delta_e, oxide, me
                          title=f"{model.title[0].upper() + model.title[1:]}: colour by oxide thickness",
                          subtitle=f"{grid.stack_text} · seen in reflection · illuminant {label}, {obs}° observer, "
                                   f"{angle:g}° incidence",
-                         notes=[f"Model: {model.statement}.", NO_TEMPERATURE])
+                         notes=[f"Model: {model.statement}.", NO_TEMPERATURE], paper=paper)
         with user_errors():
             save_plot(fig, chart_path)
 

@@ -348,8 +348,13 @@ def print_result(result, show_companions: bool, law=None, uncertainty_text=None,
     if len(conditions) > 1:
         headers.append("misfit")
     if show_companions:
-        headers += ["Tv %", "Rv %", "Rv back %", "A layers %", "A subst %", "a*b* refl", "a*b* back",
-                    "a*b* trans"]
+        # The coater's words for the views (film side, glass side, through); Tv/Rv per ISO 9050.
+        from filmoptic.stack import parse_stack
+        from filmoptic.views import back_side
+
+        back = back_side(parse_stack(str(result.stack))).split()[0]
+        headers += ["Tv %", "Rv film %", f"Rv {back} %", "A film %", "A subst %", "a*b* film", f"a*b* {back}",
+                    "a*b* through"]
     rows = []
     for i, s in enumerate(result.solutions, 1):
         row = [i, f"{s.thickness_nm:.2f}", f"{s.low_nm:.2f}", f"{s.high_nm:.2f}"]
@@ -381,9 +386,9 @@ def print_result(result, show_companions: bool, law=None, uncertainty_text=None,
     if law is not None:
         click.echo(f"Volts from the growth law {law.describe()} ({law.source}).")
     if show_companions:
-        click.echo("Tv, Rv: luminous transmittance and reflectance (ISO 9050, D65); 'back' is seen through "
-                   "the substrate; A: light absorbed in the layers and in the substrate (luminous); a*b* "
-                   "is the CIELAB tint (D65).")
+        click.echo("Tv, Rv: luminous transmittance and reflectance (ISO 9050, D65); film: the coated face; "
+                   "glass (back): the part turned over; A: light absorbed in the film and in the substrate "
+                   "(luminous); a*b*: the CIELAB tint (D65).")
 
 
 @dataclass(frozen=True)

@@ -60,9 +60,12 @@ _VISIBLE_NM = (380.0, 780.0)
 @click.option("--plot", "plot_path", metavar="FILE",
               help="Draw R, T and A against wavelength into FILE (.png, .svg or .pdf); the command says "
                    "where it wrote it.")
+@click.option("--plot-percent", "plot_percent", metavar="LOW:HIGH|auto",
+              help="Vertical range of the plot in percent: LOW:HIGH (e.g. 0:50 for a semi-mirror) or "
+                   "auto (from 0 to just above the highest curve). Default: the whole 0–100 %.")
 @json_option
 def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_path,
-             plot_path, as_json):
+             plot_path, plot_percent, as_json):
     """Reflectance, transmittance and absorptance of STACK.
 
     STACK lists the items in the order the light meets them, separated by ' / '; the last one
@@ -123,6 +126,9 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
     from filmoptic.stack import parse_stack
 
     with user_errors():
+        percent_range = _percent_range(plot_percent)
+        if plot_percent is not None and plot_path is None:
+            raise click.UsageError("--plot-percent sets the range of a plot: give --plot FILE as well")
         if plot_path is not None:
             check_plot_path(plot_path)
         if csv_path is not None:
@@ -159,7 +165,8 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
         if plot_path:
             from filmoptic.plots.spectrum import plot_spectrum
 
-            save_plot(plot_spectrum(result, title=_title(parsed, angle, polarization, reverse)), plot_path)
+            save_plot(plot_spectrum(result, title=_title(parsed, angle, polarization, reverse),
+                                    percent_range=percent_range), plot_path)
     od = None if opaque else optical_density(result.T)
     if as_json:
         if plot_path:
@@ -274,6 +281,25 @@ def _print_resolved(parsed) -> None:
         count, wl0 = layer.quarter_waves
         times = f"  (×{repeats})" if repeats > 1 else ""
         click.echo(f"  {layer.text:<20s} {layer.material}: {count:g} × λ/4 at {wl0:g} nm = {layer.thickness_nm:.2f} nm{times}")
+
+
+def _percent_range(text):
+    """None, "auto" or (low, high) from --plot-percent."""
+    from filmoptic.errors import FilmopticError
+    from filmoptic.units import parse_number
+
+    if text is None:
+        return None
+    text = text.strip().lower().replace("%", "")
+    if text == "auto":
+        return "auto"
+    parts = text.split(":")
+    if len(parts) != 2:
+        raise FilmopticError(f"--plot-percent: write LOW:HIGH in percent (e.g. 0:50) or auto, got {text!r}")
+    low, high = (parse_number(p, "--plot-percent") for p in parts)
+    if not -5 <= low < high <= 105:
+        raise FilmopticError(f"--plot-percent: need -5 <= LOW < HIGH <= 105, got {low:g}:{high:g}")
+    return low, high
 
 
 def _title(parsed, angle, polarization, reverse) -> str:

@@ -14,6 +14,7 @@ from filmoptic.cli._common import (
     emit_json,
     extrapolate_option,
     json_option,
+    paper_option,
     percent,
     print_table,
     progress,
@@ -169,7 +170,18 @@ def _lab_text(lab) -> list[str]:
 @ambient_option
 @click.option(
     "--chart", "chart_path", metavar="FILE",
-    help="Write a printable A4 colour-versus-thickness chart: .png, .svg or .pdf.",
+    help="Write a printable colour ladder (one page, A4 or --paper letter): .png, .svg or .pdf.",
+)
+@click.option(
+    "--tolerance", "tolerance_text", default="5%", show_default=True, metavar="PCT|LENGTH",
+    help="How far a run may come out thin or thick, for the ladder's side chips: a percentage "
+         "of the thickness (5%) or a length (2nm).",
+)
+@paper_option
+@click.option(
+    "--ab-plot", "ab_path", metavar="FILE",
+    help="Also draw the film-side colour's path in the CIELAB a*b* plane, labelled at the "
+         "ladder's rungs: .png, .svg or .pdf.",
 )
 @click.option(
     "--csv", "csv_path", metavar="FILE",
@@ -184,7 +196,7 @@ def _lab_text(lab) -> list[str]:
 @extrapolate_option
 @json_option
 def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illuminant, observer, angle, ambient,
-          chart_path, csv_path, table_step, extrapolate, as_json):
+          chart_path, tolerance_text, paper, ab_path, csv_path, table_step, extrapolate, as_json):
     """Colour and luminous values of STACK over a range of one layer's thickness.
 
     STACK has exactly one unknown, the thickness of the layer to vary, written '?' (then
@@ -209,10 +221,14 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
     the luminous transmittance and reflectance (ISO 9050 weighting with the chosen illuminant).
     The whole range is computed in one vectorised pass.
 
-    --chart draws what a coater can pin beside the chamber: strips of the reflected and
-    transmitted colours along the thickness axis, the luminous T and R curves beneath, and the path
-    of the reflected colour in the a*b* plane with thicknesses marked. Printed and on-screen colours
-    depend on the device; judge against real samples.
+    --chart draws a colour ladder to pin beside the chamber: the thickness runs down the page,
+    with a rung at each round thickness (or voltage) a shop can aim for. Each rung shows the
+    film-side colour at the aim between chips of the run --tolerance thin and thick, the part on a
+    light box when light comes through it, the colour's plain name, its interference order and
+    how far the thin and thick chips are from the aim (ΔE00). Beside the rungs, on the same
+    ruler: lightness L*, hue angle and the luminous values. --ab-plot draws the film-side colour's
+    path in the CIELAB a*b* plane instead of (or as well as) the ladder. Printed and on-screen
+    colours depend on the device; judge against real samples.
 
     The light absorbed is split between the layers and the substrate (inside a glass plate, or
     everything entering a metal or silicon half-space). When the substrate is an absorbing
@@ -234,11 +250,15 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
     from filmoptic.stack import parse_stack
     from filmoptic.units import parse_range_nm
 
+    from filmoptic.ladder import colour_ladder, parse_tolerance
+
     with user_errors():
-        if chart_path:
-            check_plot_path(chart_path)
+        for path in (chart_path, ab_path):
+            if path:
+                check_plot_path(path)
         if csv_path:
             check_output_path(csv_path, "--csv file")
+        tolerance, tolerance_nm = parse_tolerance(tolerance_text)
         if range_text is not None:
             parse_range_nm(range_text, what="--range", need_step=True)   # before the stack's errors
         obs = check_observer(observer)
@@ -254,23 +274,28 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
             if law is not None:
                 volts = law.volts(thickness)
         options = dict(illuminant=illuminant, observer=obs, angle_deg=angle, extrapolate=extrapolate)
+        drawing = bool(chart_path or ab_path)
+        if drawing:
+            # The ladder computes the sweep itself, with its rungs, in the same pass.
+            options.update(tolerance=tolerance, tolerance_nm=tolerance_nm, law=law if volts_text else None)
+        compute = colour_ladder if drawing else colour_sweep
         if thickness.size > _PROGRESS_FROM:
             with progress(thickness.size, "sweeping") as advance:
-                result = colour_sweep(parsed, thickness, progress=advance, **options)
+                computed = compute(parsed, thickness, progress=advance, **options)
         else:
-            result = colour_sweep(parsed, thickness, **options)
+            computed = compute(parsed, thickness, **options)
+        result = computed.sweep if drawing else computed
 
-    if chart_path:
+    if drawing:
         # Written before anything is printed, so that a failure leaves no half report on stdout.
-        from filmoptic.plots.chart import sweep_chart
+        from filmoptic.plots.chart import ab_chart, ladder_chart
 
         with user_errors():
-            if volts is None:
-                save_plot(sweep_chart(result), chart_path)
-            else:
-                save_plot(sweep_chart(result, axis=(volts, f"anodising voltage (V), {law.describe()}"),
-                                      title=f"Colour versus anodising voltage: {result.stack_text}"),
-                          chart_path)
+            if chart_path:
+                title = None if not volts_text else f"Colour ladder by anodising voltage: {result.stack_text}"
+                save_plot(ladder_chart(computed, title=title, paper=paper), chart_path)
+            if ab_path:
+                save_plot(ab_chart(computed), ab_path)
 
     if csv_path:
         with user_errors():
@@ -330,5 +355,7 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
         click.echo(f"Chart written to {chart_path}")
     if csv_path and not as_json:
         click.echo(f"Table written to {csv_path} (every row)")
+    if ab_path and not as_json:
+        click.echo(f"a*b* plot written to {ab_path}")
     if result.transmission_exits:
         caution_if_dark(result.luminous_T)

@@ -24,13 +24,14 @@ def _grid(range_nm):
 def _colour_chart(stack: str, range_nm, name: str, outdir: pathlib.Path, say) -> None:
     import numpy as np
 
-    from filmoptic.colorimetry import colour_sweep
+    from filmoptic.ladder import colour_ladder
     from filmoptic.plots import save_figure
-    from filmoptic.plots.chart import sweep_chart, thickness_ticks
+    from filmoptic.plots.chart import ladder_chart, thickness_ticks
 
-    sweep = colour_sweep(stack, _grid(range_nm))
-    save_figure(sweep_chart(sweep), outdir / f"{name}.png")
-    save_figure(sweep_chart(sweep), outdir / f"{name}.pdf")
+    ladder = colour_ladder(stack, _grid(range_nm))
+    sweep = ladder.sweep
+    for suffix in ("png", "pdf"):   # a figure is closed once saved: draw one per file
+        save_figure(ladder_chart(ladder), outdir / f"{name}.{suffix}")
     rows = [
         [f"{d:g}", r.hex, *(f"{v:.2f}" for v in r.Lab), "yes" if r.in_gamut else "no", f"{lr:.4f}"]
         for d, r, lr in ((sweep.thickness_nm[i], sweep.reflected[i], sweep.luminous_R[i])
@@ -45,7 +46,9 @@ def _colour_chart(stack: str, range_nm, name: str, outdir: pathlib.Path, say) ->
         _, C, h = sweep.reflected.LCh[i]
         say(f"  {sweep.thickness_nm[i]:6.0f} nm  {sweep.reflected.hex[i]}  L* {L:5.1f}  a* {a:+6.1f}  "
             f"b* {b:+6.1f}  hue {h:3.0f}°{'' if sweep.reflected.in_gamut[i] else '  (outside sRGB)'}")
-    say(f"  → {name}.png, {name}.pdf (A4 chart to print), {name}.csv")
+    say(f"  → {name}.png, {name}.pdf (A4 colour ladder to print: a rung every "
+        f"{ladder.rungs[1].thickness_nm - ladder.rungs[0].thickness_nm:g} nm, chips {ladder.tolerance_text} "
+        f"beside each), {name}.csv")
 
 
 def run(outdir: pathlib.Path, say) -> None:
@@ -85,15 +88,15 @@ def run(outdir: pathlib.Path, say) -> None:
     by_angle = appearance(mirror_text, angle_deg=list(sc.VIEWING_ANGLES_DEG))
     say(f"Semi-mirror {mirror_text} (luminous T {100 * front.luminous.T:.1f} %, D65):")
     rows = []
-    for key, label, lum in (("reflected", "reflected, coated side", front.luminous.R),
-                            ("reflected_reverse", "reflected, glass side", front.luminous.R_reverse),
-                            ("transmitted", "transmitted", front.luminous.T)):
+    for key, label, notation, lum in (("reflected", "film side", "Rv", front.luminous.R),
+                                      ("reflected_reverse", "glass side", "Rv", front.luminous.R_reverse),
+                                      ("transmitted", "through", "Tv", front.luminous.T)):
         c = getattr(front, key)
         L, a, b = c.Lab
-        say(f"  {label:24s} {c.hex}  L* {L:5.1f}  a* {a:+5.1f}  b* {b:+5.1f}  luminous {100 * lum:5.1f} %")
+        say(f"  {label:11s} {c.hex}  L* {L:5.1f}  a* {a:+5.1f}  b* {b:+5.1f}  {notation} {100 * lum:5.1f} %")
         rows.append([label, c.hex, f"{L:.2f}", f"{a:.2f}", f"{b:.2f}", f"{lum:.4f}"])
     write_csv(outdir / "colour_semi_mirror.csv", ["view", "hex", "L", "a", "b", "luminous"], rows)
     fig = swatch_figure(front, stack_text=mirror_text, by_angle=by_angle, angles_deg=list(sc.VIEWING_ANGLES_DEG))
     save_figure(fig, outdir / "colour_semi_mirror_swatch.png")
-    say("  → colour_semi_mirror_swatch.png (about 15 cm wide), colour_semi_mirror.csv")
+    say("  → colour_semi_mirror_swatch.png (an A4 colour sheet), colour_semi_mirror.csv")
     say("  Printed and on-screen colours depend on the device: compare real samples under the shop's lights.")

@@ -67,7 +67,9 @@ def run(outdir: pathlib.Path, say) -> None:
     save_figure(plot_fit(result), outdir / PLOT_FILE)
 
     say(f"Fitted with the model '{sc.FIT_MODEL_STACK}':")
-    for line in report.splitlines()[3:8]:
+    lines = report.splitlines()
+    start = lines.index(next(line for line in lines if line.startswith("What came out?")))
+    for line in [lines[0], *lines[start:lines.index("", start)]]:
         say(f"  {line}")
     true_A, true_B, true_d = _true_values(sc.FIT_TRUE_STACK)
     for p, true in zip(result.parameters, (true_A, true_B, true_d)):

@@ -136,3 +136,11 @@ DESIGN_SAMPLES = 2000
 # invented: the studio coats its display-case glass with one quarter wave of MgF2 at 550 nm,
 # written as the trade does instead of in nm.
 DISPLAY_AR_STACK = "{550nm} MgF2 1qw / glass 4mm"
+
+# Job 8 (added for the explore page): the titanium tags of job 2 again, now as a page the studio
+# can send to the museum shop by e-mail, so that the buyer can slide the oxide thickness and the
+# viewing angle and see the colours before ordering. Invented: the range the studio offers and the
+# angles the buyer may tilt a tag to.
+EXPLORE_STACK = "TiO2 10..200nm / Ti"      # the oxide thicknesses the studio offers on its tags
+EXPLORE_ANGLES_DEG = (0.0, 75.0, 5.0)     # start, stop, step of the page's angle slider
+EXPLORE_SHOWN_NM = 50.0                   # the thickness the studio quotes for its blue

@@ -44,10 +44,10 @@ def run(outdir: pathlib.Path, say) -> None:
         if c.thickness_nm is None:
             say(f"  {c.material:3s} cannot reach it ({c.note})")
             continue
-        say(f"  {c.material:3s} {c.thickness_nm:6.2f} nm   Rv {_pct(c.luminous_R)} coated side, "
+        say(f"  {c.material:3s} {c.thickness_nm:6.2f} nm   Rv {_pct(c.luminous_R)} film side, "
             f"{_pct(c.luminous_R_reverse)} glass side, absorbs {_pct(c.absorptance_layers)} "
             f"(+ {_pct(c.absorptance_substrate)} in the glass), "
-            f"tint C* {c.reflected_chroma:.1f} (reflected), {c.transmitted_chroma:.1f} (transmitted)")
+            f"tint C* {c.reflected_chroma:.1f} (film side), {c.transmitted_chroma:.1f} (through)")
         rows.append([c.material, f"{c.thickness_nm:.3f}", f"{c.luminous_T:.4f}", f"{c.luminous_R:.4f}",
                      f"{c.luminous_R_reverse:.4f}", f"{c.absorptance_layers:.4f}",
                      f"{c.absorptance_substrate:.4f}", f"{c.reflected_chroma:.2f}",

@@ -122,7 +122,7 @@ def plot_design(result, goals, tolerance=None, *, ambient="air", step_nm: float 
     _draw_goals(top, notes, goals, result)
     top.set_xlim(wl[0], wl[-1])
     top.set_ylim(*y_range)
-    top.set_ylabel("percent of incident light")
+    top.set_ylabel("share of the incident light (%)")
     top.grid(alpha=0.3)
     top.legend(fontsize="x-small", loc="best")
     verdict = "every goal met" if result.all_met else f"{sum(not g.met for g in result.goals)} goal(s) not met"
@@ -221,5 +221,5 @@ def _draw_profile(ax, stack, reference_nm, extrapolate):
     ax.set_ylim(0, max(finite + [1.0]) * 1.25)
     ax.set_xlim(0, depth + tail)
     ax.set_xlabel("depth from the light's side (nm)")
-    ax.set_ylabel(f"n at {reference_nm:g} nm")
+    ax.set_ylabel(f"refractive index n\nat {reference_nm:g} nm")
     ax.grid(alpha=0.3)

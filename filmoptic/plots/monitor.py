@@ -36,7 +36,7 @@ def plot_plan(table, title: str | None = None):
         ax.plot(table.turning_nm, 100 * table.turning_ratio, "v", color="tab:blue", label="turning points")
     reference = "uncoated part" if table.reference_kind == "bare" else "open beam"
     ax.set_xlabel("thickness of the growing layer (nm)")
-    ax.set_ylabel(f"reading, % of the {reference}")
+    ax.set_ylabel(f"reading (% of the {reference})")
     ax.grid(True, alpha=0.3)
     note = f"stop at {table.target_nm:.2f} nm, reading {100 * table.target_ratio:.2f} %"
     if np.isfinite(table.nm_per_percent):
@@ -47,6 +47,7 @@ def plot_plan(table, title: str | None = None):
         top = ax.secondary_xaxis("top", functions=(lambda x: x / rate, lambda s: s * rate))
         top.set_xlabel(f"time at {rate:.3g} nm/s (s)")
     ax.legend(loc="best", fontsize=8)
+    fig.tight_layout()
     return fig
 
 
@@ -65,7 +66,7 @@ def plot_run(estimates, title: str | None = None):
     >>> monitor = Monitor(plan, reference=1.0)
     >>> run = [monitor.feed(t, float(plan.model.ratio_at(t))) for t in np.arange(0.0, 60.0, 0.5)]
     >>> [ax.get_ylabel() for ax in plot_run(run).axes]
-    ['reading, % of reference', 'thickness (nm)']
+    ['reading (% of the reference)', 'thickness (nm)']
     """
     estimates = list(estimates)
     t = np.array([e.t_s for e in estimates], dtype=float)
@@ -83,7 +84,7 @@ def plot_run(estimates, title: str | None = None):
         first = estimates[0]
         top.axhline(100 * first.target_ratio, color="tab:red", lw=0.9, ls="--", label="stop value")
         bottom.axhline(first.target_nm, color="tab:red", lw=0.9, ls="--", label="target")
-    top.set_ylabel("reading, % of reference")
+    top.set_ylabel("reading (% of the reference)")
     top.grid(True, alpha=0.3)
     top.legend(loc="best", fontsize=8)
     bottom.plot(t, thickness, color="tab:blue", lw=1.5, label="thickness (smoothed)")
@@ -99,4 +100,5 @@ def plot_run(estimates, title: str | None = None):
     bottom.legend(loc="best", fontsize=8)
     if title:
         top.set_title(title, fontsize=9)
+    fig.tight_layout()
     return fig
