@@ -354,18 +354,18 @@ def _coefficient_sets(lo, hi, slots, n_parameters) -> np.ndarray:
 
 
 def _thickness_grid(lo, hi, steps, budget, seed=0):
-    """Full grid with the given steps if it fits the budget, else a Sobol sample of the box."""
+    """Full grid with the given steps if it fits the budget, else a Halton sample of the box."""
     axes = [np.arange(a, b + 0.5 * s, s) if b > a else np.array([a]) for a, b, s in zip(lo, hi, steps)]
     axes = [np.clip(ax, a, b) for ax, a, b in zip(axes, lo, hi)]
     size = int(np.prod([ax.size for ax in axes]))
     if size <= budget:
         mesh = np.meshgrid(*axes, indexing="ij")
         return np.column_stack([m.ravel() for m in mesh]), size, True
-    from scipy.stats import qmc
+    from .sampling import halton
 
     m = max(int(math.floor(math.log2(max(budget, 2)))), 1)
-    sample = qmc.Sobol(d=len(lo), scramble=True, seed=seed).random_base2(m)
-    return qmc.scale(sample, lo, hi), size, False
+    sample = halton(2**m, len(lo), seed=seed)
+    return lo + sample * (hi - lo), size, False
 
 
 def _distinct_best(points, chi2, scales, count):

@@ -92,15 +92,9 @@ class TabulatedMaterial(Material):
     def interpolants(self):
         """The (n, k) PCHIP interpolants, built on first use."""
         if self._interpolants is None:
-            from scipy.interpolate import PchipInterpolator
+            from filmoptic.interpolate import Pchip
 
-            # Flat stretches (k = 0 over a transparent range) make scipy divide by a zero slope
-            # internally; it handles that case correctly, so the warning is noise.
-            with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
-                self._interpolants = (
-                    PchipInterpolator(self.wavelength, self.n, extrapolate=False),
-                    PchipInterpolator(self.wavelength, self.k, extrapolate=False),
-                )
+            self._interpolants = (Pchip(self.wavelength, self.n), Pchip(self.wavelength, self.k))
         return self._interpolants
 
     def _nk(self, wl):
