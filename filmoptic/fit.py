@@ -10,9 +10,10 @@ volume fraction of a ``mix(…)``. The fit runs in three steps:
    The free thicknesses are therefore sampled on a coarse grid fine enough to resolve the fringes
    (step λ_min / (8·|N|_max), four samples per fringe period) in one vectorised
    :func:`filmoptic.engine.compute` call per set of coefficient values; the coefficients
-   themselves get a small grid (at most :data:`MAX_COEFFICIENT_SETS` sets). When the film is
-   transparent on a thick transparent substrate and T is measured at normal incidence, the
-   envelope method (:func:`filmoptic.envelope.swanepoel`) adds its estimate as a start.
+   themselves get a small grid (at most :data:`MAX_COEFFICIENT_SETS` sets); when the thickness
+   grid would exceed ``max_grid``, a Halton sample of the same box (:mod:`filmoptic.sampling`)
+   takes its place. When the film is transparent on a thick transparent substrate and T is
+   measured at normal incidence, the envelope method (:func:`filmoptic.envelope.swanepoel`) adds its estimate as a start.
 2. **Local refinement.** The best few distinct grid points (and the envelope start) are refined
    with bounded least squares (``scipy.optimize.least_squares``, trust-region reflective); the
    lowest χ² wins.
