@@ -67,7 +67,7 @@ import difflib
 import math
 import os
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import lru_cache
 from pathlib import Path
 
@@ -108,6 +108,8 @@ __all__ = [
     "appearance",
     "ColourSweep",
     "colour_sweep",
+    "ColourGrid",
+    "colour_grid",
     "sweep_bounds_nm",
     "transmission_exits",
 ]
@@ -1095,11 +1097,126 @@ def transmission_exits(stack, wavelength_nm=None, *, extrapolate=False) -> bool:
 
 
 # --------------------------------------------------------------------------------------------
+# Luminous values and XYZ over a grid, without spectra
+# --------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class ColourGrid:
+    """Luminous values and CIE XYZ of a stack over a grid of thickness sets (and angles).
+
+    Computed by :func:`colour_grid` without ever holding the spectra: every chunk of the engine's
+    grid is reduced to these numbers as soon as it is solved.
+
+    Attributes
+    ----------
+    luminous : Luminous
+        ``T``, ``R``, ``A_layers``, ``A_substrate`` (fractions), each of shape
+        ``(*batch, *numpy.shape(angle_deg))``; ``R_reverse`` is None (ask with ``reverse=True``
+        for light from the substrate side).
+    XYZ_R, XYZ_T : numpy.ndarray
+        Tristimulus values (Y = 100 for a perfect reflector) of the reflected and transmitted
+        light, shape ``(…, 3)``; None when ``colours=False`` (``XYZ_T`` also when nothing comes
+        through).
+    wavelength_nm, illuminant, observer, angle_deg, transmission
+        What was computed (``illuminant`` is the display name).
+    """
+
+    luminous: Luminous
+    XYZ_R: np.ndarray | None
+    XYZ_T: np.ndarray | None
+    wavelength_nm: np.ndarray
+    illuminant: str
+    observer: int
+    angle_deg: object
+    transmission: str
+    light: object = field(default="D65", repr=False)   # the illuminant as given (name, file or table)
+
+    def reflected(self) -> "Colour":
+        """The reflected colours (CIELAB, sRGB, …) from ``XYZ_R``."""
+        return colour_from_XYZ(self.XYZ_R, self.wavelength_nm, self.light, self.observer)
+
+    def transmitted(self) -> "Colour | None":
+        """The transmitted colours from ``XYZ_T`` (None when nothing comes through)."""
+        if self.XYZ_T is None:
+            return None
+        return colour_from_XYZ(self.XYZ_T, self.wavelength_nm, self.light, self.observer)
+
+
+def colour_grid(stack, thickness_nm=None, *, illuminant="D65", observer=2, angle_deg=0.0, reverse=False,
+                ambient=None, wavelength_nm=None, extrapolate=False, colours=True) -> ColourGrid:
+    """Luminous values (ISO 9050) and CIE XYZ of a stack over a grid, in memory bounded by chunks.
+
+    The engine reduces each chunk of its grid to luminous values and XYZ as soon as it has solved
+    it (:func:`filmoptic.engine.compute_weighted` with the weights of :func:`luminous_weights` and
+    :func:`tristimulus_weights`), so a 500 × 500 map over two layer thicknesses takes a few
+    megabytes, not the gigabytes its spectra would. The values equal those of
+    :func:`luminous` and :func:`spectrum_to_XYZ` applied to :func:`filmoptic.engine.compute`'s
+    spectra, to rounding.
+
+    Parameters
+    ----------
+    stack : filmoptic.stack.Stack or str
+        The stack; its free thicknesses are supplied by ``thickness_nm``.
+    thickness_nm : array_like, optional
+        Shape ``(*batch, K)`` for the stack's K free thicknesses (as for
+        :func:`filmoptic.engine.compute`); None for a stack without unknowns.
+    illuminant, observer, ambient, wavelength_nm, extrapolate
+        As for :func:`appearance`.
+    angle_deg : float or array_like
+        Angle(s) of incidence; an array adds its axes after the batch's.
+    reverse : bool
+        Light from the substrate side.
+    colours : bool
+        Also the XYZ of the reflected and transmitted light (default True).
+
+    Returns
+    -------
+    ColourGrid
+
+    Examples
+    --------
+    Luminous transmittance of a titanium semi-mirror for a 3 × 2 grid of titanium and silica
+    thicknesses (the map a designer scans for 30 %):
+
+    >>> import numpy as np
+    >>> ti, sio2 = np.meshgrid([6.0, 8.0, 10.0], [0.0, 100.0], indexing="ij")
+    >>> grid = colour_grid("SiO2 ? / Ti ? / glass 4mm", np.stack([sio2, ti], axis=-1))
+    >>> grid.luminous.T.shape, grid.XYZ_R.shape
+    ((3, 2), (3, 2, 3))
+    >>> from filmoptic.engine import compute
+    >>> full = compute("SiO2 100nm / Ti 8nm / glass 4mm", default_wavelengths())
+    >>> bool(abs(luminous(default_wavelengths(), full.T) - grid.luminous.T[1, 1]) < 1e-15)
+    True
+    """
+    from .engine import compute_weighted
+
+    stack = _stack_from(stack, ambient)
+    obs = check_observer(observer)
+    label = check_illuminant(illuminant)
+    wl = default_wavelengths() if wavelength_nm is None else _as_grid(wavelength_nm)
+    lum_w = luminous_weights(wl, illuminant)
+    weights = np.column_stack([lum_w, tristimulus_weights(wl, illuminant, obs)]) if colours else lum_w[:, None]
+    sums = compute_weighted(stack, wl, weights, angle_deg=angle_deg, reverse=reverse, thickness_nm=thickness_nm,
+                            extrapolate=extrapolate, channels=("R", "T", "A_layers", "A_substrate"))
+    opaque = sums.transmission == "opaque"
+    return ColourGrid(
+        luminous=Luminous(T=sums.T[..., 0], R=sums.R[..., 0], A_layers=sums.A_layers[..., 0],
+                          A_substrate=sums.A_substrate[..., 0]),
+        XYZ_R=sums.R[..., 1:] if colours else None,
+        XYZ_T=sums.T[..., 1:] if colours and not opaque else None,
+        wavelength_nm=wl, illuminant=label, observer=obs, angle_deg=sums.angle_deg,
+        transmission=sums.transmission, light=illuminant,
+    )
+
+
+# --------------------------------------------------------------------------------------------
 # Colour versus thickness
 # --------------------------------------------------------------------------------------------
 
 #: Thicknesses per engine call in :func:`colour_sweep`; typical sweeps run in a single call and
-#: longer ones in blocks, so that a progress bar can move.
+#: longer ones in blocks, so that a progress bar can move (memory is bounded by the engine's
+#: chunks either way: no spectrum is held).
 SWEEP_BLOCK = 4096
 
 
@@ -1212,7 +1329,7 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
     ----------
     CIE 15:2018; ISO 9050:2003; Macleod, *Thin-Film Optical Filters*, ch. 2 (the engine).
     """
-    from .engine import compute
+    from .engine import compute_weighted
 
     stack = _stack_from(stack, ambient)
     _free_thickness_index(stack)
@@ -1229,21 +1346,23 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
     if not 0 <= angle < 90:
         raise FilmopticError("the angle of incidence must lie in [0, 90) degrees")
 
-    xyz_w = tristimulus_weights(wl, illuminant, obs)
-    lum_w = luminous_weights(wl, illuminant)
+    # Luminous weights and XYZ weights side by side: each block of thicknesses is reduced to
+    # these sums inside the engine, chunk by chunk, and no spectrum is ever held.
+    weights = np.column_stack([luminous_weights(wl, illuminant), tristimulus_weights(wl, illuminant, obs)])
     R_xyz, T_xyz, R_lum, T_lum, AL_lum, AS_lum = [], [], [], [], [], []
     meaning = "exits"
     for start in range(0, d.size, SWEEP_BLOCK):
         block = d[start:start + SWEEP_BLOCK]
-        spectrum = compute(stack, wl, angle_deg=angle, polarization="unpolarized",
-                           thickness_nm=block[:, None], extrapolate=extrapolate)
-        meaning = spectrum.transmission
-        R_xyz.append(spectrum.R @ xyz_w)
-        T_xyz.append(spectrum.T @ xyz_w)
-        R_lum.append(spectrum.R @ lum_w)
-        T_lum.append(spectrum.T @ lum_w)
-        AL_lum.append(spectrum.A_layers @ lum_w)
-        AS_lum.append(spectrum.A_substrate @ lum_w)
+        sums = compute_weighted(stack, wl, weights, angle_deg=angle, polarization="unpolarized",
+                                thickness_nm=block[:, None], extrapolate=extrapolate,
+                                channels=("R", "T", "A_layers", "A_substrate"))
+        meaning = sums.transmission
+        R_xyz.append(sums.R[:, 1:])
+        T_xyz.append(sums.T[:, 1:])
+        R_lum.append(sums.R[:, 0])
+        T_lum.append(sums.T[:, 0])
+        AL_lum.append(sums.A_layers[:, 0])
+        AS_lum.append(sums.A_substrate[:, 0])
         if progress is not None:
             progress(block.size)
     ambient_name = getattr(stack.ambient, "name", "air")

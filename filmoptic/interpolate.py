@@ -135,7 +135,7 @@ def pchip_slopes(x, y) -> np.ndarray:
     Examples
     --------
     >>> pchip_slopes([0.0, 1.0, 2.0], [0.0, 1.0, 0.0]).tolist()   # a peak: flat on top
-    [1.5, 0.0, -1.5]
+    [2.0, 0.0, -2.0]
     """
     x, y = _nodes(x, y)
     h = np.diff(x)

@@ -62,6 +62,11 @@ MODULES = [
     "filmoptic.design.refine",
     "filmoptic.design.designer",
     "filmoptic.design.tolerance",
+    "filmoptic.interpolate",
+    "filmoptic.sampling",
+    "filmoptic.cie.tables",
+    "filmoptic.cie.transforms",
+    "filmoptic.descriptions",
 ]
 
 

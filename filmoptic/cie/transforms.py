@@ -114,8 +114,9 @@ def XYZ_to_Lab(XYZ, white_xy) -> np.ndarray:
 
     Examples
     --------
-    >>> XYZ_to_Lab([0.18418, 0.19, 0.20691], (0.3127, 0.329)).round(2).tolist()
-    [50.76, 0.05, -0.0]
+    >>> d65 = (0.3127, 0.329)
+    >>> (XYZ_to_Lab(0.18 * white_XYZ(d65), d65).round(2) + 0.0).tolist()     # an 18 % grey
+    [49.5, 0.0, 0.0]
     """
     XYZ = np.asarray(XYZ, dtype=float)
     Xn, Yn, Zn = np.moveaxis(white_XYZ(white_xy), -1, 0)
