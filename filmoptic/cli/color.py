@@ -27,8 +27,9 @@ __all__ = ["color", "illuminant_option", "observer_option", "colour_json", "LOW_
 illuminant_option = click.option(
     "--illuminant", default="D65", show_default=True, metavar="NAME|FILE",
     help="Light the part is seen under: D65 (daylight), D50, A (incandescent), C, E, F1–F12 "
-         "(fluorescent), LED-B1…LED-B5, LED-BH1, LED-RGB1, LED-V1, LED-V2, or a two-column file "
-         "'wavelength_nm value' with the lamp's relative spectrum covering 380–780 nm.",
+         "(fluorescent), LED-B1…LED-B5, LED-BH1, LED-RGB1, LED-V1, LED-V2, another CIE "
+         "illuminant by its name in colour-science (D60, FL3.1…FL3.15, HP1…HP5, ID65, …), or a "
+         "two-column file 'wavelength_nm value' with the lamp's relative spectrum covering 380–780 nm.",
 )
 class ObserverType(click.Choice):
     """2 or 10, also written with a degree sign or 'deg' (10°, 10deg) as people do."""
