@@ -345,8 +345,10 @@ class _Job:
         B = self.rows()
         shape = (len(range(*bsl.indices(B))), len(range(*asl.indices(self.angles.size))),
                  len(range(*wsl.indices(self.wl.size))))
-        R = np.array(np.broadcast_to(Rc, shape))
-        T = np.array(np.broadcast_to(Tc, shape))
+        # The solver's arrays are its workspace (reused for the next chunk), or smaller ones
+        # that broadcast: either way the chunk gets arrays of its own.
+        R = Rc.copy() if Rc.shape == shape else np.array(np.broadcast_to(Rc, shape))
+        T = Tc.copy() if Tc.shape == shape else np.array(np.broadcast_to(Tc, shape))
         if self.transmission == "opaque":
             # Everything that enters an absorbing half-space stays there.
             A_substrate, T = T, np.zeros(shape)
@@ -513,7 +515,7 @@ def _check_wavelengths(wavelength_nm) -> np.ndarray:
     wl = np.atleast_1d(np.asarray(wavelength_nm, dtype=float))
     if wl.ndim != 1 or wl.size == 0:
         raise FilmopticError("wavelengths must be a non-empty 1-D list of nm")
-    if not np.all(np.isfinite(wl)) or np.any(wl <= 0):
+    if not np.isfinite(wl).all() or (wl <= 0).any():
         raise FilmopticError("wavelengths must be positive, finite numbers of nm")
     return wl
 
@@ -530,7 +532,7 @@ def _check_angles(angle_deg) -> np.ndarray:
         angles = np.asarray(angle_deg, dtype=float)
     except (TypeError, ValueError):
         raise FilmopticError(f"angle of incidence must be a number of degrees, got {angle_deg!r}") from None
-    if not np.all(np.isfinite(angles)) or np.any(angles < 0) or np.any(angles >= 90):
+    if not np.isfinite(angles).all() or (angles < 0).any() or (angles >= 90).any():
         raise FilmopticError("angle of incidence must lie in [0, 90) degrees")
     return angles
 
@@ -544,7 +546,7 @@ def _incident_index(material, N0, angles) -> np.ndarray:
     """
     from filmoptic.materials import is_practically_transparent
 
-    if not np.any(angles > 0) or not np.any(N0.imag > 0):
+    if not (angles > 0).any() or not (N0.imag > 0).any():
         return N0
     if is_practically_transparent(N0):
         return N0.real.astype(complex)
@@ -636,7 +638,7 @@ def _thickness_table(specs, columns, thickness_nm, consumed=None):
                 f"thickness_nm must have shape (..., {n_free}) for the stack's {n_free} free "
                 f"thickness(es), got shape {np.shape(thickness_nm)}"
             )
-        if not np.all(np.isfinite(values)) or np.any(values < 0):
+        if not np.isfinite(values).all() or (values < 0).any():
             raise FilmopticError("free thicknesses must be finite and not negative")
         batch_shape = values.shape[:-1]
         values = values.reshape(math.prod(batch_shape), n_free)
@@ -754,7 +756,7 @@ def _cis(phase: np.ndarray, out: np.ndarray, workspace, scale=None) -> np.ndarra
 
 def _flush_tiny_k(N: np.ndarray) -> np.ndarray:
     tiny = np.abs(N.imag) < _NEGLIGIBLE_K
-    if np.any(tiny & (N.imag != 0)):
+    if (tiny & (N.imag != 0)).any():
         N = np.where(tiny, N.real + 0j, N)
     return N
 
@@ -867,7 +869,7 @@ class _Medium:
         self.i2kz = 4j * np.pi * self.q / lam              # 2i · normal wave-vector component
         self.i2kz_real = np.ascontiguousarray(self.i2kz.real)
         self.i2kz_imag = np.ascontiguousarray(self.i2kz.imag)
-        self.lossy = bool(np.any(self.i2kz_real != 0))
+        self.lossy = bool(self.i2kz_real.any())
 
 
 class _Optics:
