@@ -143,7 +143,10 @@ def heavy_imports(args, cwd) -> list:
             f"    main({list(args)!r})\n"
             f"print(' '.join(sorted({{m.split('.')[0] for m in sys.modules}} & set({HEAVY!r}))))\n")
     out = subprocess.run([sys.executable, "-c", code], cwd=cwd, capture_output=True, text=True, env=CHILD_ENV)
-    return out.stdout.strip().splitlines()[-1].split() if out.stdout.strip() else ["?"]
+    if out.returncode != 0:
+        return ["(failed)"]
+    lines = out.stdout.splitlines()
+    return lines[-1].split() if lines else []
 
 
 def main():

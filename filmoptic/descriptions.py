@@ -31,11 +31,14 @@ import numpy as np
 
 from .errors import FilmopticError
 
-__all__ = ["LightTemperature", "Description", "MAX_DUV", "munsell_notation", "light_temperature",
+__all__ = ["LightTemperature", "Description", "MAX_DUV", "CCT_RANGE_K", "munsell_notation", "light_temperature",
            "light_chromaticity", "describe"]
 
 #: Largest distance from the Planckian locus for which a CCT is given (CIE 015:2018 §9.5).
 MAX_DUV = 0.05
+#: Temperatures the method searches (kelvin): a light whose nearest point of the locus lies
+#: outside, such as a deep-red band, has no CCT rather than an extrapolated one.
+CCT_RANGE_K = (1000.0, 100000.0)
 #: The illuminant and observer of the Munsell renotation.
 MUNSELL_ILLUMINANT = "C"
 
@@ -47,7 +50,8 @@ class LightTemperature:
     Attributes
     ----------
     cct_K : float or None
-        CCT in kelvin; None when the light lies more than :data:`MAX_DUV` from the Planckian locus.
+        CCT in kelvin; None when the light lies more than :data:`MAX_DUV` from the Planckian locus,
+        or nearest to it outside :data:`CCT_RANGE_K`.
     duv : float
         Signed distance from the locus in the CIE 1960 (u, v) diagram (positive above it, towards
         green; negative below, towards magenta).
@@ -168,7 +172,8 @@ def light_temperature(xy) -> LightTemperature:
         warnings.simplefilter("ignore")
         cct, duv = colour.temperature.uv_to_CCT_Ohno2013(colour.xy_to_UCS_uv(xy))
     cct, duv = float(cct), float(duv)
-    usable = np.isfinite(cct) and abs(duv) <= MAX_DUV and cct > 0
+    low, high = CCT_RANGE_K
+    usable = bool(np.isfinite(cct) and np.isfinite(duv) and abs(duv) <= MAX_DUV and low <= cct <= high)
     return LightTemperature(cct if usable else None, duv, (float(xy[0]), float(xy[1])))
 
 
@@ -218,12 +223,13 @@ def describe(stack, *, illuminant="D65", angle_deg=0.0, ambient=None, wavelength
     if cct:
         result["light"] = light_temperature(light_chromaticity(wl, illuminant))
         if result["light"].cct_K is None:
-            notes.append(f"the light ({label}) lies more than {MAX_DUV:g} from the Planckian locus: "
-                         "it has no correlated colour temperature")
+            notes.append(f"the light ({label}) has no correlated colour temperature (it lies more than "
+                         f"{MAX_DUV:g} from the black-body line, or beyond {CCT_RANGE_K[0]:g}–{CCT_RANGE_K[1]:g} K)")
         if front.transmission != "opaque" and float(np.max(front.T)) > 0:
             passed = light_temperature(light_chromaticity(wl, illuminant, front.T))
             result["transmitted"] = passed
             if passed.cct_K is None:
-                notes.append(f"the light through the part lies more than {MAX_DUV:g} from the Planckian "
-                             "locus: it has no correlated colour temperature")
+                notes.append(f"the light through the part has no correlated colour temperature (it lies "
+                             f"more than {MAX_DUV:g} from the black-body line, or beyond "
+                             f"{CCT_RANGE_K[0]:g}–{CCT_RANGE_K[1]:g} K)")
     return Description(illuminant=label, notes=tuple(notes), **result)

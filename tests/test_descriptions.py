@@ -60,6 +60,14 @@ def test_light_far_from_the_black_body_line_has_no_cct(tmp_path):
     assert t.cct_K is None and abs(t.duv) > 0.05
 
 
+def test_a_deep_red_light_gets_no_extrapolated_temperature(tmp_path):
+    # A 700 nm band sits near the end of the Planckian locus, below the 1000 K where the search
+    # of Ohno's method starts (Ohno 2014): no CCT rather than an extrapolated one.
+    lamp = tmp_path / "red.txt"
+    lamp.write_text("".join(f"{w:g} {np.exp(-((w - 700) / 8) ** 2) + 1e-9:.6g}\n" for w in WL))
+    assert light_temperature(light_chromaticity(WL, str(lamp))).cct_K is None
+
+
 def test_the_light_through_a_neutral_film_keeps_its_temperature():
     # A spectrally flat transmittance passes light of the same chromaticity, so the same CCT.
     d = describe("n=1.5", ambient="n=1", cct=True, munsell=False)
