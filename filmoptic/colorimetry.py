@@ -22,14 +22,22 @@ other illuminant replacing D65 on request.
 
 Method choice
 -------------
-The colour-matching functions and illuminants come from colour-science's copies of the CIE tables
-(1 nm CMFs; illuminants at their tabulated steps) and are *sampled* on the wavelength grid (linear
-interpolation between tabulated values, which CIE 15:2018 recommends for the daylight
-illuminants). With the default grid of 380–780 nm at 5 nm this is the plain summation of
+The colour-matching functions, V(λ) and the illuminants offered by name are the CIE tables shipped
+in :mod:`filmoptic.cie` (1 nm CMFs; illuminants at their tabulated steps), copied value for value
+from colour-science by ``tools/build_ciedata.py``; other CIE illuminants known to colour-science
+(D60, FL3.1, HP1, …) are taken from colour-science by name. The tables are *sampled* on the
+wavelength grid (linear interpolation between tabulated values, which CIE 15:2018 recommends for
+the daylight illuminants). With the default grid of 380–780 nm at 5 nm this is the plain summation of
 CIE 15:2018 §7.1 using the 1 nm tables sampled every 5 nm, the practice ASTM E308 allows for 5 nm
 data. Only grid points between 380 nm and 780 nm take part, so the colour does not depend on how far
 a spectrum extends beyond the visible. Results agree with colour-science's own
 ``sd_to_XYZ(..., method="Integration")`` on the same range (the test suite checks this).
+
+The transforms after XYZ (CIELAB, LCh, Bradford adaptation, sRGB, ΔE00) are the closed forms of
+:mod:`filmoptic.cie.transforms`, equal to colour-science's to rounding. colour-science itself is
+imported only for what goes beyond the shipped set: other illuminants by name, and the Munsell
+notation and correlated colour temperature of :func:`describe` (the ``--munsell``/``--cct``
+options of ``filmoptic color``).
 
 References
 ----------
@@ -59,12 +67,15 @@ import difflib
 import math
 import os
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import lru_cache
 from pathlib import Path
 
 import numpy as np
 
+from .cie import tables as cie_tables
+from .cie import transforms as cie
+from .cie.tables import SHIPPED_ILLUMINANTS
 from .errors import DataFileError, FilmopticError, WavelengthRangeError
 from .materials.tables import check_wavelength_column
 from .units import check_angles_deg
@@ -98,6 +109,8 @@ __all__ = [
     "appearance",
     "ColourSweep",
     "colour_sweep",
+    "ColourGrid",
+    "colour_grid",
     "sweep_bounds_nm",
     "transmission_exits",
 ]
@@ -115,19 +128,11 @@ MAX_STEP_NM = 10.0
 #: 8-bit step near full scale.
 GAMUT_TOLERANCE = 1e-3
 
-_OBSERVERS = {2: "CIE 1931 2 Degree Standard Observer", 10: "CIE 1964 10 Degree Standard Observer"}
-_PHOTOPIC = "CIE 1924 Photopic Standard Observer"
-_ADAPTATION = "Bradford"
-
-# Our names -> colour-science's. The CIE F-series is F1–F12 in CIE 15:2018 ("FL" in colour-science).
-ILLUMINANT_NAMES = (
-    ("A", "C", "D50", "D55", "D65", "D75", "E")
-    + tuple(f"F{i}" for i in range(1, 13))
-    + ("LED-B1", "LED-B2", "LED-B3", "LED-B4", "LED-B5", "LED-BH1", "LED-RGB1", "LED-V1", "LED-V2")
-)
-_ILLUMINANT_KEYS = {name.upper(): (f"FL{name[1:]}" if re.fullmatch(r"F\d+", name) else name)
-                    for name in ILLUMINANT_NAMES}
-_ILLUMINANT_KEYS.update({f"FL{i}": f"FL{i}" for i in range(1, 13)})
+#: The illuminants offered by name and shipped as tables (:mod:`filmoptic.cie.tables`). The CIE
+#: F series is F1–F12 as in CIE 15:2018 (colour-science's FL1–FL12, also accepted).
+ILLUMINANT_NAMES = SHIPPED_ILLUMINANTS
+_ILLUMINANT_KEYS = {name.upper(): name for name in ILLUMINANT_NAMES}
+_ILLUMINANT_KEYS.update({f"FL{i}": f"F{i}" for i in range(1, 13)})
 
 
 def _colour():
@@ -393,8 +398,19 @@ def check_observer(observer) -> int:
     )
 
 
+@lru_cache(maxsize=1)
+def _other_cie_names() -> dict:
+    """colour-science's illuminants beyond the shipped ones: upper-case name -> its key."""
+    names = {key.upper(): key for key in _colour().SDS_ILLUMINANTS.keys()}
+    for key in list(names):
+        if key in _ILLUMINANT_KEYS:
+            del names[key]
+    return names
+
+
 def _illuminant_key(illuminant) -> tuple[str, str]:
-    """Classify an illuminant: ("cie", colour-science key) or ("file", resolved path)."""
+    """Classify an illuminant: ("cie", shipped name), ("colour", colour-science key) or
+    ("file", path). colour-science is imported only for a name that is neither shipped nor a file."""
     if isinstance(illuminant, TabulatedSpectrum):
         raise TypeError("a TabulatedSpectrum is handled by the caller")
     if isinstance(illuminant, os.PathLike):
@@ -403,12 +419,19 @@ def _illuminant_key(illuminant) -> tuple[str, str]:
     key = _ILLUMINANT_KEYS.get(name.upper())
     if key is not None:
         return "cie", key
+    if os.sep in name or "/" in name or Path(name).exists():
+        return "file", name
+    other = _other_cie_names()
+    if name.upper() in other:
+        return "colour", other[name.upper()]
     if _looks_like_path(name):
         return "file", name
-    close = difflib.get_close_matches(name.upper(), list(_ILLUMINANT_KEYS), n=3, cutoff=0.5)
-    hint = f"; did you mean {', '.join(close)}?" if close else ""
+    choices = list(_ILLUMINANT_KEYS) + list(other)
+    close = difflib.get_close_matches(name.upper(), choices, n=3, cutoff=0.5)
+    hint = f"; did you mean {', '.join(other.get(c, c) for c in close)}?" if close else ""
     raise FilmopticError(
-        f"unknown illuminant {name!r}: use D65, D50, A, C, E, F1–F12, LED-B1…LED-V2 or a file path{hint}"
+        f"unknown illuminant {name!r}: use D65, D50, A, C, E, F1–F12, LED-B1…LED-V2, another CIE "
+        f"illuminant colour-science knows (D60, FL3.1…FL3.15, HP1…HP5, ID65, …) or a file path{hint}"
     )
 
 
@@ -434,9 +457,7 @@ def illuminant_label(illuminant) -> str:
     if isinstance(illuminant, TabulatedSpectrum):
         return illuminant.source
     kind, key = _illuminant_key(illuminant)
-    if kind == "file":
-        return key
-    return f"F{key[2:]}" if re.fullmatch(r"FL\d+", key) else key
+    return key
 
 
 def _mtime(path: str) -> float:
@@ -464,9 +485,10 @@ def _file_spectrum(path: str, mtime: float) -> TabulatedSpectrum:  # mtime keys 
 
 
 @lru_cache(maxsize=64)
-def _cie_table(key: str) -> tuple[np.ndarray, np.ndarray]:
-    colour = _colour()
-    sd = colour.SDS_ILLUMINANTS[key]
+def _cie_table(kind: str, key: str) -> tuple[np.ndarray, np.ndarray]:
+    if kind == "cie":
+        return cie_tables.illuminant_table(key)
+    sd = _colour().SDS_ILLUMINANTS[key]
     return np.asarray(sd.wavelengths, dtype=float), np.asarray(sd.values, dtype=float)
 
 
@@ -508,8 +530,8 @@ def illuminant_table(illuminant) -> TabulatedSpectrum:
     kind, key = _illuminant_key(illuminant)
     if kind == "file":
         return _illuminant_file(key)
-    wl, values = _cie_table(key)
-    return TabulatedSpectrum(wl, values, f"CIE illuminant {illuminant_label(illuminant)}")
+    wl, values = _cie_table(kind, key)
+    return TabulatedSpectrum(wl, values, f"CIE illuminant {key}")
 
 
 def illuminant_spd(name, wavelength_nm) -> np.ndarray:
@@ -552,12 +574,6 @@ def illuminant_spd(name, wavelength_nm) -> np.ndarray:
     return illuminant_table(name).at(wavelength_nm)
 
 
-@lru_cache(maxsize=4)
-def _photopic_table() -> tuple[np.ndarray, np.ndarray]:
-    sd = _colour().colorimetry.SDS_LEFS_PHOTOPIC[_PHOTOPIC]
-    return np.asarray(sd.wavelengths, dtype=float), np.asarray(sd.values, dtype=float)
-
-
 def photopic_efficiency(wavelength_nm) -> np.ndarray:
     """The CIE 1924 photopic luminous efficiency V(λ), linearly interpolated (0 beyond 360–830 nm).
 
@@ -570,18 +586,12 @@ def photopic_efficiency(wavelength_nm) -> np.ndarray:
     >>> float(photopic_efficiency([555.0])[0])
     1.0
     """
-    wl, v = _photopic_table()
+    wl, v = cie_tables.photopic_table()
     return np.interp(np.asarray(wavelength_nm, dtype=float), wl, v, left=0.0, right=0.0)
 
 
-@lru_cache(maxsize=4)
-def _cmf_table(observer: int) -> tuple[np.ndarray, np.ndarray]:
-    cmfs = _colour().MSDS_CMFS[_OBSERVERS[observer]]
-    return np.asarray(cmfs.wavelengths, dtype=float), np.asarray(cmfs.values, dtype=float)
-
-
 def _cmfs(observer: int, wavelength_nm: np.ndarray) -> np.ndarray:
-    wl, values = _cmf_table(observer)
+    wl, values = cie_tables.cmf_table(observer)
     return np.stack([np.interp(wavelength_nm, wl, values[:, i], left=0.0, right=0.0) for i in range(3)], axis=-1)
 
 
@@ -824,15 +834,9 @@ def _white_xy(wl, illuminant, observer) -> np.ndarray:
 
 @lru_cache(maxsize=64)
 def _srgb_matrix(white_key: tuple) -> np.ndarray:
-    """Rows: linear sRGB of unit X, Y, Z seen under ``white`` (colour-science's XYZ_to_RGB, Bradford).
-
-    The conversion is linear, so colour-science evaluated once on the unit vectors gives the
-    matrix, and every later conversion is a matrix product (fast over sweeps).
-    """
-    matrix = _colour().XYZ_to_RGB(
-        np.eye(3), "sRGB", illuminant=np.asarray(white_key),
-        chromatic_adaptation_transform=_ADAPTATION, apply_cctf_encoding=False,
-    )
+    """Rows: linear sRGB of unit X, Y, Z seen under ``white`` (Bradford adaptation to D65, then
+    IEC 61966-2-1); every conversion is then one matrix product (fast over sweeps)."""
+    matrix = cie.XYZ_to_srgb_matrix(np.asarray(white_key))
     matrix.setflags(write=False)
     return matrix
 
@@ -852,14 +856,13 @@ def _gamut_map(Lab: np.ndarray, white_xy: np.ndarray, iterations: int = 30) -> n
     Bisection on the chroma scale factor, vectorised over all colours. L* is first held to
     [0, 100], where the neutral axis (scale 0) is inside the gamut.
     """
-    colour = _colour()
     L = np.clip(Lab[:, 0], 0.0, 100.0)
     lo = np.zeros_like(L)   # a scale known to fit
     hi = np.ones_like(L)    # a scale that does not
 
     def rgb_at(scale):
         lab = np.stack([L, Lab[:, 1] * scale, Lab[:, 2] * scale], axis=-1)
-        return _linear_srgb(colour.Lab_to_XYZ(lab, white_xy) * 100.0, white_xy)
+        return _linear_srgb(cie.Lab_to_XYZ(lab, white_xy) * 100.0, white_xy)
 
     for _ in range(iterations):
         mid = 0.5 * (lo + hi)
@@ -887,22 +890,19 @@ def colour_from_XYZ(XYZ, wavelength_nm=None, illuminant="D65", observer=2) -> Co
     The white for CIELAB is the illuminant's own (computed on ``wavelength_nm``, default 380–780 nm
     at 5 nm); sRGB uses Bradford adaptation from that white to D65.
     """
-    colour = _colour()
     wl = default_wavelengths() if wavelength_nm is None else wavelength_nm
     XYZ = np.asarray(XYZ, dtype=float)
     white_xy = _white_xy(wl, illuminant, observer)
-    total = XYZ.sum(axis=-1, keepdims=True)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        xy = np.where(total > 0, XYZ[..., :2] / np.where(total > 0, total, 1.0), white_xy)
-    Lab = colour.XYZ_to_Lab(XYZ / 100.0, white_xy)
-    LCh = colour.Lab_to_LCHab(Lab)
+    xy = cie.XYZ_to_xy(XYZ, white_xy)
+    Lab = cie.XYZ_to_Lab(XYZ / 100.0, white_xy)
+    LCh = cie.Lab_to_LCh(Lab)
     rgb = _linear_srgb(XYZ, white_xy)
     inside = _in_gamut(rgb)
     if not np.all(inside):
         rgb = np.array(rgb, dtype=float, copy=True)
         outside = ~inside
         rgb[outside] = _gamut_map(np.reshape(Lab[outside], (-1, 3)), white_xy)
-    encoded = colour.cctf_encoding(np.clip(rgb, 0.0, 1.0), "sRGB")
+    encoded = cie.srgb_encode(np.clip(rgb, 0.0, 1.0))
     rgb8 = np.rint(encoded * 255.0).astype(int)
     in_gamut = bool(inside) if inside.ndim == 0 else inside
     return Colour(XYZ, xy, Lab, LCh, rgb8, _hex(rgb8), in_gamut)
@@ -995,12 +995,11 @@ def delta_e00(lab1, lab2) -> np.ndarray:
     >>> round(float(delta_e00([50, 2.6772, -79.7751], [50, 0, -82.7485])), 4)
     2.0425
     """
-    delta_E_CIE2000 = _colour().difference.delta_E_CIE2000
     a = lab1.Lab if isinstance(lab1, Colour) else np.asarray(lab1, dtype=float)
     b = lab2.Lab if isinstance(lab2, Colour) else np.asarray(lab2, dtype=float)
     if np.shape(a)[-1:] != (3,) or np.shape(b)[-1:] != (3,):
         raise FilmopticError("ΔE00 needs CIELAB colours as three numbers L*, a*, b*")
-    result = delta_E_CIE2000(a, b)
+    result = cie.delta_e00(a, b)
     return float(result) if np.ndim(result) == 0 else result
 
 
@@ -1164,11 +1163,126 @@ def transmission_exits(stack, wavelength_nm=None, *, extrapolate=False) -> bool:
 
 
 # --------------------------------------------------------------------------------------------
+# Luminous values and XYZ over a grid, without spectra
+# --------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class ColourGrid:
+    """Luminous values and CIE XYZ of a stack over a grid of thickness sets (and angles).
+
+    Computed by :func:`colour_grid` without ever holding the spectra: every chunk of the engine's
+    grid is reduced to these numbers as soon as it is solved.
+
+    Attributes
+    ----------
+    luminous : Luminous
+        ``T``, ``R``, ``A_layers``, ``A_substrate`` (fractions), each of shape
+        ``(*batch, *numpy.shape(angle_deg))``; ``R_reverse`` is None (ask with ``reverse=True``
+        for light from the substrate side).
+    XYZ_R, XYZ_T : numpy.ndarray
+        Tristimulus values (Y = 100 for a perfect reflector) of the reflected and transmitted
+        light, shape ``(…, 3)``; None when ``colours=False`` (``XYZ_T`` also when nothing comes
+        through).
+    wavelength_nm, illuminant, observer, angle_deg, transmission
+        What was computed (``illuminant`` is the display name).
+    """
+
+    luminous: Luminous
+    XYZ_R: np.ndarray | None
+    XYZ_T: np.ndarray | None
+    wavelength_nm: np.ndarray
+    illuminant: str
+    observer: int
+    angle_deg: object
+    transmission: str
+    light: object = field(default="D65", repr=False)   # the illuminant as given (name, file or table)
+
+    def reflected(self) -> "Colour":
+        """The reflected colours (CIELAB, sRGB, …) from ``XYZ_R``."""
+        return colour_from_XYZ(self.XYZ_R, self.wavelength_nm, self.light, self.observer)
+
+    def transmitted(self) -> "Colour | None":
+        """The transmitted colours from ``XYZ_T`` (None when nothing comes through)."""
+        if self.XYZ_T is None:
+            return None
+        return colour_from_XYZ(self.XYZ_T, self.wavelength_nm, self.light, self.observer)
+
+
+def colour_grid(stack, thickness_nm=None, *, illuminant="D65", observer=2, angle_deg=0.0, reverse=False,
+                ambient=None, wavelength_nm=None, extrapolate=False, colours=True) -> ColourGrid:
+    """Luminous values (ISO 9050) and CIE XYZ of a stack over a grid, in memory bounded by chunks.
+
+    The engine reduces each chunk of its grid to luminous values and XYZ as soon as it has solved
+    it (:func:`filmoptic.engine.compute_weighted` with the weights of :func:`luminous_weights` and
+    :func:`tristimulus_weights`), so a 500 × 500 map over two layer thicknesses takes a few
+    megabytes, not the gigabytes its spectra would. The values equal those of
+    :func:`luminous` and :func:`spectrum_to_XYZ` applied to :func:`filmoptic.engine.compute`'s
+    spectra, to rounding.
+
+    Parameters
+    ----------
+    stack : filmoptic.stack.Stack or str
+        The stack; its free thicknesses are supplied by ``thickness_nm``.
+    thickness_nm : array_like, optional
+        Shape ``(*batch, K)`` for the stack's K free thicknesses (as for
+        :func:`filmoptic.engine.compute`); None for a stack without unknowns.
+    illuminant, observer, ambient, wavelength_nm, extrapolate
+        As for :func:`appearance`.
+    angle_deg : float or array_like
+        Angle(s) of incidence; an array adds its axes after the batch's.
+    reverse : bool
+        Light from the substrate side.
+    colours : bool
+        Also the XYZ of the reflected and transmitted light (default True).
+
+    Returns
+    -------
+    ColourGrid
+
+    Examples
+    --------
+    Luminous transmittance of a titanium semi-mirror for a 3 × 2 grid of titanium and silica
+    thicknesses (the map a designer scans for 30 %):
+
+    >>> import numpy as np
+    >>> ti, sio2 = np.meshgrid([6.0, 8.0, 10.0], [0.0, 100.0], indexing="ij")
+    >>> grid = colour_grid("SiO2 ? / Ti ? / glass 4mm", np.stack([sio2, ti], axis=-1))
+    >>> grid.luminous.T.shape, grid.XYZ_R.shape
+    ((3, 2), (3, 2, 3))
+    >>> from filmoptic.engine import compute
+    >>> full = compute("SiO2 100nm / Ti 8nm / glass 4mm", default_wavelengths())
+    >>> bool(abs(luminous(default_wavelengths(), full.T) - grid.luminous.T[1, 1]) < 1e-15)
+    True
+    """
+    from .engine import compute_weighted
+
+    stack = _stack_from(stack, ambient)
+    obs = check_observer(observer)
+    label = check_illuminant(illuminant)
+    wl = default_wavelengths() if wavelength_nm is None else _as_grid(wavelength_nm)
+    lum_w = luminous_weights(wl, illuminant)
+    weights = np.column_stack([lum_w, tristimulus_weights(wl, illuminant, obs)]) if colours else lum_w[:, None]
+    sums = compute_weighted(stack, wl, weights, angle_deg=angle_deg, reverse=reverse, thickness_nm=thickness_nm,
+                            extrapolate=extrapolate, channels=("R", "T", "A_layers", "A_substrate"))
+    opaque = sums.transmission == "opaque"
+    return ColourGrid(
+        luminous=Luminous(T=sums.T[..., 0], R=sums.R[..., 0], A_layers=sums.A_layers[..., 0],
+                          A_substrate=sums.A_substrate[..., 0]),
+        XYZ_R=sums.R[..., 1:] if colours else None,
+        XYZ_T=sums.T[..., 1:] if colours and not opaque else None,
+        wavelength_nm=wl, illuminant=label, observer=obs, angle_deg=sums.angle_deg,
+        transmission=sums.transmission, light=illuminant,
+    )
+
+
+# --------------------------------------------------------------------------------------------
 # Colour versus thickness
 # --------------------------------------------------------------------------------------------
 
 #: Thicknesses per engine call in :func:`colour_sweep`; typical sweeps run in a single call and
-#: longer ones in blocks, so that a progress bar can move.
+#: longer ones in blocks, so that a progress bar can move (memory is bounded by the engine's
+#: chunks either way: no spectrum is held).
 SWEEP_BLOCK = 4096
 
 
@@ -1281,7 +1395,7 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
     ----------
     CIE 15:2018; ISO 9050:2003; Macleod, *Thin-Film Optical Filters*, ch. 2 (the engine).
     """
-    from .engine import check_work, compute, interface_count
+    from .engine import check_work, compute_weighted, interface_count
 
     stack = _stack_from(stack, ambient)
     _free_thickness_index(stack)
@@ -1300,21 +1414,23 @@ def colour_sweep(stack, thickness_nm, *, illuminant="D65", observer=2, angle_deg
     angle = float(angle_deg)
     check_angles_deg(angle)
 
-    xyz_w = tristimulus_weights(wl, illuminant, obs)
-    lum_w = luminous_weights(wl, illuminant)
+    # Luminous weights and XYZ weights side by side: each block of thicknesses is reduced to
+    # these sums inside the engine, chunk by chunk, and no spectrum is ever held.
+    weights = np.column_stack([luminous_weights(wl, illuminant), tristimulus_weights(wl, illuminant, obs)])
     R_xyz, T_xyz, R_lum, T_lum, AL_lum, AS_lum = [], [], [], [], [], []
     meaning = "exits"
     for start in range(0, d.size, SWEEP_BLOCK):
         block = d[start:start + SWEEP_BLOCK]
-        spectrum = compute(stack, wl, angle_deg=angle, polarization="unpolarized",
-                           thickness_nm=block[:, None], extrapolate=extrapolate)
-        meaning = spectrum.transmission
-        R_xyz.append(spectrum.R @ xyz_w)
-        T_xyz.append(spectrum.T @ xyz_w)
-        R_lum.append(spectrum.R @ lum_w)
-        T_lum.append(spectrum.T @ lum_w)
-        AL_lum.append(spectrum.A_layers @ lum_w)
-        AS_lum.append(spectrum.A_substrate @ lum_w)
+        sums = compute_weighted(stack, wl, weights, angle_deg=angle, polarization="unpolarized",
+                                thickness_nm=block[:, None], extrapolate=extrapolate,
+                                channels=("R", "T", "A_layers", "A_substrate"))
+        meaning = sums.transmission
+        R_xyz.append(sums.R[:, 1:])
+        T_xyz.append(sums.T[:, 1:])
+        R_lum.append(sums.R[:, 0])
+        T_lum.append(sums.T[:, 0])
+        AL_lum.append(sums.A_layers[:, 0])
+        AS_lum.append(sums.A_substrate[:, 0])
         if progress is not None:
             progress(block.size)
     ambient_name = getattr(stack.ambient, "name", "air")

@@ -46,8 +46,8 @@ import numpy as np
 
 from filmoptic.errors import FilmopticError
 
-__all__ = ["Spectrum", "POLARIZATIONS", "TRANSMISSION_MEANINGS", "compute", "compute_indices",
-           "CHUNK_BYTES", "interface_count", "check_work"]
+__all__ = ["Spectrum", "WeightedSpectrum", "POLARIZATIONS", "TRANSMISSION_MEANINGS", "CHANNELS", "compute",
+           "compute_weighted", "compute_indices", "CHUNK_BYTES", "interface_count", "check_work"]
 
 #: The polarisation names :func:`compute` accepts.
 POLARIZATIONS = ("s", "p", "unpolarized")
@@ -171,82 +171,265 @@ def compute(stack, wavelength_nm, *, angle_deg=0.0, polarization="unpolarized", 
     >>> s.R.shape                  # 3 thickness sets × 2 wavelengths, in one pass
     (3, 2)
     """
-    if isinstance(stack, str):
-        from filmoptic.stack import parse_stack
+    job = _Job(stack, wavelength_nm, angle_deg, polarization, reverse, thickness_nm, extrapolate)
+    sink = _SpectraSink(job)
+    job.run(sink.take)
+    R, T, A, A_layers, A_substrate = sink.result()
+    return Spectrum(wavelength_nm=job.wl, angle_deg=job.angle_out, polarization=job.pol, R=R, T=T, A=A,
+                    A_layers=A_layers, A_substrate=A_substrate, transmission=job.transmission)
 
-        stack = parse_stack(stack)
-    wl = _check_wavelengths(wavelength_nm)
-    pol = _check_polarization(polarization)
-    angles = _check_angles(angle_deg)
 
-    media, thickness_specs, incoherent = _media_of(stack)
-    free_thickness = _free_thickness_columns(stack)
-    batch_shape, table = _thickness_table(thickness_specs, free_thickness, thickness_nm, _consumed(stack))
+#: The channels :func:`compute_weighted` can reduce.
+CHANNELS = ("R", "T", "A", "A_layers", "A_substrate")
 
-    # Every distinct material is evaluated once over the whole grid.
-    cache: dict[int, np.ndarray] = {}
-    indices = []
-    for material in media:
-        key = id(material)
-        if key not in cache:
-            cache[key] = np.asarray(material.nk(wl, extrapolate=extrapolate), dtype=complex)
-        indices.append(cache[key])
 
-    half_space = stack.substrate.thickness_nm is None
-    if reverse:
-        if half_space:
-            _check_entry_through_substrate(stack.substrate, indices[-1], wl)
-        indices = indices[::-1]
-        table = table[::-1]
-        incoherent = incoherent[::-1]
-        media = media[::-1]
-    indices[0] = _incident_index(media[0], indices[0], angles, wl)
-    transmission, substrate_slab = _substrate_role(indices, half_space, reverse)
+@dataclass(frozen=True)
+class WeightedSpectrum:
+    """Weighted sums over wavelength of R, T, A and A's split: spectra reduced inside the engine.
 
-    out_shape = batch_shape + angles.shape + wl.shape
-    batch = math.prod(batch_shape)
-    check_work(wl.size * max(batch, 1) * max(angles.size, 1), len(media) - 1)
-    _charge(wl.size * max(batch, 1) * max(angles.size, 1), len(media) - 1)
-    if batch == 0 or angles.size == 0:
-        empty = np.empty(out_shape)
-        return Spectrum(wavelength_nm=wl, angle_deg=angles, polarization=pol, R=empty,
-                        T=empty.copy(), A=empty.copy(), A_layers=empty.copy(),
-                        A_substrate=empty.copy(), transmission=transmission)
-    R, T, A_slab = _solve(indices, table, incoherent, wl, angles.reshape(-1), pol,
-                          absorber=substrate_slab)
-    if R.shape[0] != batch:
-        # No thickness varies across the batch (e.g. K = 0): the same answer for every member.
-        R = np.repeat(R, batch, axis=0)
-        T = np.repeat(T, batch, axis=0)
-        if A_slab is not None:
-            A_slab = np.repeat(A_slab, batch, axis=0)
-    R = R.reshape(out_shape)
-    T = T.reshape(out_shape)
-    _check_result(R, T, wl)
-    if transmission == "opaque":
-        # Everything that enters an absorbing half-space stays there.
-        A_substrate, T = T, np.zeros(out_shape)
-    elif A_slab is not None:
-        A_substrate = A_slab.reshape(out_shape)
-        # Where no layer absorbs, all the light lost is the slab's. (The interference term of
-        # the waves at the face of an absorbing slab, of order k, would otherwise be left over
-        # and credited to lossless layers.)
-        lossless = ~np.any([N.imag > 0 for i, N in enumerate(indices)
-                            if 0 < i < len(indices) - 1 and i != substrate_slab], axis=0)
-        A_substrate = np.where(lossless, 1.0 - R - T, A_substrate)
-        # A slab without absorption absorbs nothing (not even rounding).
-        A_substrate = np.where(indices[substrate_slab].imag > 0, A_substrate, 0.0)
-    else:
-        A_substrate = np.zeros(out_shape)
-    A = np.subtract(1.0, R)
-    A -= T
-    np.clip(A, 0.0, 1.0, out=A)
-    np.clip(A_substrate, 0.0, None, out=A_substrate)
-    np.minimum(A_substrate, A, out=A_substrate)
-    A_layers = np.subtract(A, A_substrate)
-    angle_out = float(angles) if angles.ndim == 0 else angles
-    return Spectrum(wavelength_nm=wl, angle_deg=angle_out, polarization=pol, R=R, T=T, A=A,
-                    A_layers=A_layers, A_substrate=A_substrate, transmission=transmission)
+    Attributes
+    ----------
+    wavelength_nm : numpy.ndarray
+        The wavelengths, shape ``(W,)``.
+    weights : numpy.ndarray
+        The weights as given, shape ``(W,)`` or ``(W, *M)``.
+    angle_deg, polarization, transmission
+        As in :class:`Spectrum`.
+    R, T, A, A_layers, A_substrate : numpy.ndarray or None
+        ``Σ_λ channel(λ)·weights[λ, …]``, shape ``(*batch, *numpy.shape(angle_deg), *M)``; None for
+        a channel that was not asked for.
+    """
+
+    wavelength_nm: np.ndarray
+    weights: np.ndarray
+    angle_deg: float | np.ndarray
+    polarization: str
+    R: np.ndarray | None = None
+    T: np.ndarray | None = None
+    A: np.ndarray | None = None
+    A_layers: np.ndarray | None = None
+    A_substrate: np.ndarray | None = None
+    transmission: str = "exits"
+
+
+def compute_weighted(stack, wavelength_nm, weights, *, angle_deg=0.0, polarization="unpolarized",
+                     reverse=False, thickness_nm=None, extrapolate=False,
+                     channels=CHANNELS) -> WeightedSpectrum:
+    """Weighted sums over wavelength of a stack's R, T and A, without holding its spectra.
+
+    The same engine as :func:`compute`, but every chunk of the grid is reduced to
+    ``channel @ weights`` as soon as it is computed, so memory is bounded by the chunk size
+    (:data:`CHUNK_BYTES`) and the size of the answer, whatever the number of thickness sets:
+    a 500 × 500 map of luminous transmittance over two layer thicknesses needs a few megabytes
+    instead of gigabytes of spectra. Luminous values, CIE XYZ, band averages and detector signals
+    are all such sums (see :func:`filmoptic.colorimetry.colour_grid` for colours and luminous
+    values by name).
+
+    Parameters
+    ----------
+    stack, wavelength_nm, angle_deg, polarization, reverse, thickness_nm, extrapolate
+        As for :func:`compute`.
+    weights : array_like, shape (W,) or (W, *M)
+        One weight (or one set of M weights) per wavelength, e.g.
+        :func:`filmoptic.colorimetry.luminous_weights` or
+        :func:`filmoptic.colorimetry.tristimulus_weights`.
+    channels : sequence of str
+        Which of ``"R"``, ``"T"``, ``"A"``, ``"A_layers"``, ``"A_substrate"`` to reduce.
+
+    Returns
+    -------
+    WeightedSpectrum
+        The sums, shape ``(*batch, *numpy.shape(angle_deg), *M)``. Equal to
+        ``compute(…).R @ weights`` (and so on) to rounding.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> wl = np.array([500.0, 600.0])
+    >>> full = compute("TiO2 ? / glass 1mm", wl, thickness_nm=[[50.0], [100.0]])
+    >>> part = compute_weighted("TiO2 ? / glass 1mm", wl, [0.5, 0.5], thickness_nm=[[50.0], [100.0]])
+    >>> bool(np.allclose(part.T, full.T.mean(axis=-1), rtol=0, atol=1e-15)), part.T.shape
+    (True, (2,))
+    """
+    channels = tuple(channels)
+    unknown = [c for c in channels if c not in CHANNELS]
+    if unknown or not channels:
+        raise FilmopticError(f"channels must be some of {', '.join(CHANNELS)}, got {channels!r}")
+    job = _Job(stack, wavelength_nm, angle_deg, polarization, reverse, thickness_nm, extrapolate)
+    w = np.asarray(weights, dtype=float)
+    if w.ndim == 0 or w.shape[0] != job.wl.size:
+        raise FilmopticError(
+            f"weights need one row per wavelength ({job.wl.size}), got shape {np.shape(weights)}"
+        )
+    if not np.all(np.isfinite(w)):
+        raise FilmopticError("weights must be finite numbers")
+    sink = _WeightedSink(job, w.reshape(w.shape[0], -1), channels)
+    job.run(sink.take)
+    sums = sink.result(w.shape[1:])
+    return WeightedSpectrum(wavelength_nm=job.wl, weights=w, angle_deg=job.angle_out, polarization=job.pol,
+                            transmission=job.transmission, **sums)
+
+
+class _Job:
+    """One call of the engine: checked inputs, the media's indices, and how the chunks finish."""
+
+    def __init__(self, stack, wavelength_nm, angle_deg, polarization, reverse, thickness_nm, extrapolate):
+        if isinstance(stack, str):
+            from filmoptic.stack import parse_stack
+
+            stack = parse_stack(stack)
+        self.wl = wl = _check_wavelengths(wavelength_nm)
+        self.pol = _check_polarization(polarization)
+        angles = _check_angles(angle_deg)
+        self.angles = angles
+        self.angle_out = float(angles) if angles.ndim == 0 else angles
+
+        media, thickness_specs, incoherent = _media_of(stack)
+        free_thickness = _free_thickness_columns(stack)
+        batch_shape, table = _thickness_table(thickness_specs, free_thickness, thickness_nm, _consumed(stack))
+
+        # Every distinct material is evaluated once over the whole grid.
+        cache: dict[int, np.ndarray] = {}
+        indices = []
+        for material in media:
+            key = id(material)
+            if key not in cache:
+                cache[key] = np.asarray(material.nk(wl, extrapolate=extrapolate), dtype=complex)
+            indices.append(cache[key])
+
+        half_space = stack.substrate.thickness_nm is None
+        if reverse:
+            if half_space:
+                _check_entry_through_substrate(stack.substrate, indices[-1], wl)
+            indices = indices[::-1]
+            table = table[::-1]
+            incoherent = incoherent[::-1]
+            media = media[::-1]
+        indices[0] = _incident_index(media[0], indices[0], angles, wl)
+        self.transmission, self.substrate_slab = _substrate_role(indices, half_space, reverse)
+        self.indices, self.table, self.incoherent = indices, table, incoherent
+        self.batch_shape = batch_shape
+        self.batch = math.prod(batch_shape)
+        # The work of this call, refused at once when it is past the limit, and charged to the
+        # running command's budget.
+        points = wl.size * max(self.batch, 1) * max(angles.size, 1)
+        check_work(points, len(media) - 1)
+        _charge(points, len(media) - 1)
+        self.out_shape = batch_shape + angles.shape + wl.shape
+        # Per wavelength: where no layer absorbs (all the light lost is then the slab's), and
+        # where the substrate slab absorbs at all.
+        self.lossless = self.slab_absorbs = None
+        if self.substrate_slab is not None:
+            lossy = [N.imag > 0 for i, N in enumerate(indices)
+                     if 0 < i < len(indices) - 1 and i != self.substrate_slab]
+            self.lossless = np.broadcast_to(~np.any(lossy, axis=0), wl.shape)
+            self.slab_absorbs = np.broadcast_to(indices[self.substrate_slab].imag > 0, wl.shape)
+
+    @property
+    def empty(self) -> bool:
+        return self.batch == 0 or self.angles.size == 0
+
+    def run(self, take) -> None:
+        """Solve the grid chunk by chunk; ``take(rows, angles, wavelengths, R, T, A, A_layers,
+        A_substrate)`` receives each finished chunk (slices and arrays of shape (b, a, w))."""
+        if self.empty:
+            return
+
+        def finish(bsl, asl, wsl, Rc, Tc, Ac):
+            take(bsl, asl, wsl, *self._finish(bsl, asl, wsl, Rc, Tc, Ac))
+
+        _solve(self.indices, self.table, self.incoherent, self.wl, self.angles.reshape(-1), self.pol,
+               absorber=self.substrate_slab, sink=finish)
+
+    def rows(self) -> int:
+        """Rows the solver produces: the batch, or 1 when no thickness varies across it."""
+        return max((len(d) for d in self.table if d is not None), default=1)
+
+    def _finish(self, bsl, asl, wsl, Rc, Tc, Ac):
+        """R, T, A, A_layers, A_substrate of one chunk from the solver's R, T and slab absorption."""
+        B = self.rows()
+        shape = (len(range(*bsl.indices(B))), len(range(*asl.indices(self.angles.size))),
+                 len(range(*wsl.indices(self.wl.size))))
+        # The solver's arrays are its workspace (reused for the next chunk), or smaller ones
+        # that broadcast: either way the chunk gets arrays of its own.
+        R = Rc.copy() if Rc.shape == shape else np.array(np.broadcast_to(Rc, shape))
+        T = Tc.copy() if Tc.shape == shape else np.array(np.broadcast_to(Tc, shape))
+        _check_result(R, T, self.wl[wsl])
+        if self.transmission == "opaque":
+            # Everything that enters an absorbing half-space stays there.
+            A_substrate, T = T, np.zeros(shape)
+        elif Ac is not None:
+            A_substrate = np.array(np.broadcast_to(Ac, shape))
+            # Where no layer absorbs, all the light lost is the slab's. (The interference term of
+            # the waves at the face of an absorbing slab, of order k, would otherwise be left over
+            # and credited to lossless layers.)
+            A_substrate = np.where(self.lossless[wsl], 1.0 - R - T, A_substrate)
+            # A slab without absorption absorbs nothing (not even rounding).
+            A_substrate = np.where(self.slab_absorbs[wsl], A_substrate, 0.0)
+        else:
+            A_substrate = np.zeros(shape)
+        A = np.subtract(1.0, R)
+        A -= T
+        np.clip(A, 0.0, 1.0, out=A)
+        np.clip(A_substrate, 0.0, None, out=A_substrate)
+        np.minimum(A_substrate, A, out=A_substrate)
+        A_layers = np.subtract(A, A_substrate)
+        return R, T, A, A_layers, A_substrate
+
+
+class _SpectraSink:
+    """Collects the finished chunks into whole spectra."""
+
+    def __init__(self, job):
+        self.job = job
+        grid = (job.rows(), job.angles.size, job.wl.size) if not job.empty else None
+        self.arrays = None if grid is None else [np.empty(grid) for _ in CHANNELS]
+
+    def take(self, bsl, asl, wsl, *chunk):
+        for array, values in zip(self.arrays, chunk):
+            array[bsl, asl, wsl] = values
+
+    def result(self):
+        job = self.job
+        if self.arrays is None:
+            return tuple(np.empty(job.out_shape) for _ in CHANNELS)
+        out = []
+        for array in self.arrays:
+            if array.shape[0] != job.batch:
+                # No thickness varies across the batch (e.g. K = 0): the same for every member.
+                array = np.repeat(array, job.batch, axis=0)
+            out.append(array.reshape(job.out_shape))
+        return tuple(out)
+
+
+class _WeightedSink:
+    """Reduces every finished chunk to ``channel @ weights`` and adds it up."""
+
+    def __init__(self, job, weights, channels):
+        self.job, self.weights = job, weights
+        self.wanted = [CHANNELS.index(c) for c in channels]
+        rows = job.rows() if not job.empty else 0
+        self.sums = {CHANNELS[i]: np.zeros((rows, job.angles.size, weights.shape[1])) for i in self.wanted}
+
+    def take(self, bsl, asl, wsl, *chunk):
+        w = self.weights[wsl]
+        for i in self.wanted:
+            values = chunk[i]
+            b, a, n = values.shape
+            self.sums[CHANNELS[i]][bsl, asl] += (values.reshape(b * a, n) @ w).reshape(b, a, -1)
+
+    def result(self, tail) -> dict:
+        job = self.job
+        shape = job.batch_shape + job.angles.shape + tuple(tail)
+        out = {}
+        for name, array in self.sums.items():
+            if job.empty:
+                out[name] = np.zeros(shape)
+                continue
+            if array.shape[0] != job.batch:
+                array = np.repeat(array, job.batch, axis=0)
+            out[name] = array.reshape(shape)
+        return out
 
 
 def _substrate_role(indices, half_space, reverse):
@@ -348,7 +531,7 @@ def _check_wavelengths(wavelength_nm) -> np.ndarray:
         raise FilmopticError("wavelengths must be numbers of nm") from None
     if wl.ndim != 1 or wl.size == 0:
         raise FilmopticError("wavelengths must be a non-empty 1-D list of nm")
-    if not np.all(np.isfinite(wl)) or np.any(wl <= 0):
+    if not np.isfinite(wl).all() or (wl <= 0).any():
         raise FilmopticError("wavelengths must be positive, finite numbers of nm")
     lo, hi = WAVELENGTH_RANGE_NM
     if np.any(wl < lo) or np.any(wl > hi):
@@ -451,7 +634,7 @@ def _incident_index(material, N0, angles, wl) -> np.ndarray:
     """
     from filmoptic.materials import TRANSPARENT_K_OVER_N, is_practically_transparent
 
-    if not np.any(N0.imag > 0):
+    if not (N0.imag > 0).any():
         return N0
     if is_practically_transparent(N0):
         return N0.real.astype(complex) if np.any(angles > 0) else N0
@@ -663,7 +846,7 @@ def _cis(phase: np.ndarray, out: np.ndarray, workspace, scale=None) -> np.ndarra
 
 def _flush_tiny_k(N: np.ndarray) -> np.ndarray:
     tiny = np.abs(N.imag) < _NEGLIGIBLE_K
-    if np.any(tiny & (N.imag != 0)):
+    if (tiny & (N.imag != 0)).any():
         N = np.where(tiny, N.real + 0j, N)
     return N
 
@@ -679,16 +862,31 @@ def _reciprocal(z: np.ndarray) -> np.ndarray:
     return out
 
 
-def _solve(indices, table, incoherent, wl, angles_deg, pol, absorber=None):
+def _solve(indices, table, incoherent, wl, angles_deg, pol, absorber=None, sink=None):
     """R, T and the absorptance inside medium ``absorber`` (a thick slab; None: not wanted),
-    shape (B, A, W), for media ``indices`` (first and last semi-infinite)."""
+    shape (B, A, W), for media ``indices`` (first and last semi-infinite).
+
+    With ``sink``, nothing is collected: ``sink(rows, angles, wavelengths, R, T, A_slab)`` gets
+    every chunk as it is solved (its arrays are reused for the next chunk) and None is returned.
+    """
     B = max((len(d) for d in table if d is not None), default=1)
     A = angles_deg.size
     W = wl.size
-    R = np.empty((B, A, W))
-    T = np.empty((B, A, W))
-    A_slab = None if absorber is None else np.empty((B, A, W))
-    pols = ("s", "p") if pol == "unpolarized" else (pol,)
+    if sink is None:
+        R = np.empty((B, A, W))
+        T = np.empty((B, A, W))
+        A_slab = None if absorber is None else np.empty((B, A, W))
+
+        def sink(bsl, asl, wsl, Rc, Tc, Ac):
+            R[bsl, asl, wsl] = Rc
+            T[bsl, asl, wsl] = Tc
+            if A_slab is not None:
+                A_slab[bsl, asl, wsl] = Ac
+    else:
+        R = None
+    # At normal incidence s and p are the same light (their reflection coefficients differ only
+    # in sign): one of them gives the unpolarised answer at half the work.
+    pols = (("s", "p") if np.any(angles_deg) else ("s",)) if pol == "unpolarized" else (pol,)
 
     ends = (0, len(indices) - 1)
     incoherent_media = [i for i, flag in enumerate(incoherent) if flag or i in ends]
@@ -721,11 +919,8 @@ def _solve(indices, table, incoherent, wl, angles_deg, pol, absorber=None):
                     thick = [None if d is None else (d[bsl] if d.size > 1 else d)[:, None, None]
                              for d in table]
                     Rc, Tc, Ac = _solve_chunk(pols, packets, optics, thick, workspace, absorber)
-                    R[bsl, asl, wsl] = Rc
-                    T[bsl, asl, wsl] = Tc
-                    if A_slab is not None:
-                        A_slab[bsl, asl, wsl] = Ac
-    return R, T, A_slab
+                    sink(bsl, asl, wsl, Rc, Tc, Ac)
+    return None if R is None else (R, T, A_slab)
 
 
 _LOCAL = threading.local()
@@ -764,7 +959,7 @@ class _Medium:
         self.i2kz = 4j * np.pi * self.q / lam              # 2i · normal wave-vector component
         self.i2kz_real = np.ascontiguousarray(self.i2kz.real)
         self.i2kz_imag = np.ascontiguousarray(self.i2kz.imag)
-        self.lossy = bool(np.any(self.i2kz_real != 0))
+        self.lossy = bool(self.i2kz_real.any())
 
 
 class _Optics:

@@ -10,9 +10,10 @@ volume fraction of a ``mix(…)``. The fit runs in three steps:
    The free thicknesses are therefore sampled on a coarse grid fine enough to resolve the fringes
    (step λ_min / (8·|N|_max), four samples per fringe period) in one vectorised
    :func:`filmoptic.engine.compute` call per set of coefficient values; the coefficients
-   themselves get a small grid (at most :data:`MAX_COEFFICIENT_SETS` sets). When the film is
-   transparent on a thick transparent substrate and T is measured at normal incidence, the
-   envelope method (:func:`filmoptic.envelope.swanepoel`) adds its estimate as a start.
+   themselves get a small grid (at most :data:`MAX_COEFFICIENT_SETS` sets); when the thickness
+   grid would exceed ``max_grid``, a Halton sample of the same box (:mod:`filmoptic.sampling`)
+   takes its place. When the film is transparent on a thick transparent substrate and T is
+   measured at normal incidence, the envelope method (:func:`filmoptic.envelope.swanepoel`) adds its estimate as a start.
 2. **Local refinement.** The best few distinct grid points (and the envelope start) are refined
    with bounded least squares (``scipy.optimize.least_squares``, trust-region reflective); the
    lowest χ² wins.
@@ -393,7 +394,7 @@ def _coefficient_sets(lo, hi, slots, n_parameters) -> np.ndarray:
 
 
 def _thickness_grid(lo, hi, steps, budget, seed=0):
-    """Full grid with the given steps if it fits the budget, else a Sobol sample of the box."""
+    """Full grid with the given steps if it fits the budget, else a Halton sample of the box."""
     # Sizes first (a range of a metre at 0.05 nm would not fit in memory as a list).
     counts = [math.floor((b - a) / s + 0.5) + 1 if b > a else 1 for a, b, s in zip(lo, hi, steps)]
     size = math.prod(counts)
@@ -402,11 +403,11 @@ def _thickness_grid(lo, hi, steps, budget, seed=0):
         axes = [np.clip(ax, a, b) for ax, a, b in zip(axes, lo, hi)]
         mesh = np.meshgrid(*axes, indexing="ij")
         return np.column_stack([m.ravel() for m in mesh]), size, True
-    from scipy.stats import qmc
+    from .sampling import halton
 
     m = max(int(math.floor(math.log2(max(budget, 2)))), 1)
-    sample = qmc.Sobol(d=len(lo), scramble=True, seed=seed).random_base2(m)
-    return qmc.scale(sample, lo, hi), size, False
+    sample = halton(2**m, len(lo), seed=seed)
+    return lo + sample * (hi - lo), size, False
 
 
 def _distinct_best(points, chi2, scales, count):

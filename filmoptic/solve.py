@@ -123,10 +123,11 @@ def _visible():
 
 def _lab(wl, values, illuminant="D65", observer=2) -> np.ndarray:
     """CIELAB of spectra (..., W), without the sRGB/gamut work of colour_of (not needed here)."""
-    from .colorimetry import _colour, _white_xy, spectrum_to_XYZ
+    from .cie.transforms import XYZ_to_Lab
+    from .colorimetry import _white_xy, spectrum_to_XYZ
 
     XYZ = spectrum_to_XYZ(wl, values, illuminant, observer)
-    return _colour().XYZ_to_Lab(XYZ / 100.0, _white_xy(wl, illuminant, observer))
+    return XYZ_to_Lab(XYZ / 100.0, _white_xy(wl, illuminant, observer))
 
 
 def _channel(stack, wl, channel, side, angle_deg, extrapolate):
@@ -455,18 +456,17 @@ def lab_from_hex(text, illuminant="D65") -> tuple:
     >>> [round(v, 1) for v in lab_from_hex("#ffffff")] == [100.0, 0.0, 0.0]
     True
     """
-    from .colorimetry import _colour, _white_xy, default_wavelengths
+    from .cie.transforms import XYZ_to_Lab, srgb_decode, srgb_to_XYZ_matrix
+    from .colorimetry import _white_xy, default_wavelengths
 
-    colour = _colour()
     s = str(text).strip()
     if not re.fullmatch(r"#?[0-9a-fA-F]{6}", s):
         raise FilmopticError(f"--hex: write a colour as #rrggbb, got {text!r}")
     s = s.lstrip("#")
     rgb = np.array([int(s[i:i + 2], 16) for i in (0, 2, 4)], dtype=float) / 255.0
     white_xy = _white_xy(default_wavelengths(), illuminant, 2)
-    XYZ = colour.RGB_to_XYZ(rgb, "sRGB", illuminant=white_xy, chromatic_adaptation_transform="Bradford",
-                            apply_cctf_decoding=True)
-    Lab = colour.XYZ_to_Lab(XYZ, white_xy)
+    XYZ = srgb_decode(rgb) @ srgb_to_XYZ_matrix(white_xy)
+    Lab = XYZ_to_Lab(XYZ, white_xy)
     return tuple(float(v) for v in Lab)
 
 
@@ -1033,7 +1033,7 @@ def solve_batch(stack, condition, values, *, uncertainty=0.0, relative_uncertain
     a, b, fa, fb, ok, count = first_brackets(grid, q, values, chunk=chunk)
     # Roots of the cubic interpolant of the grid values first (cheap), then a Newton step on the
     # forward model and a verification with it (two engine calls for all rows together).
-    from scipy.interpolate import CubicSpline
+    from .interpolate import CubicSpline
 
     spline = CubicSpline(grid, q)
     dspline = spline.derivative()

@@ -173,13 +173,16 @@ def test_all_voltages_in_one_engine_call(monkeypatch):
     import filmoptic.engine as engine
 
     calls = []
-    real = engine.compute
 
-    def counting(*args, **kwargs):
-        calls.append(kwargs.get("thickness_nm"))
-        return real(*args, **kwargs)
+    def counting(real):
+        def count(*args, **kwargs):
+            calls.append(kwargs.get("thickness_nm"))
+            return real(*args, **kwargs)
+        return count
 
-    monkeypatch.setattr(engine, "compute", counting)
+    # Either entry point of the engine (whole spectra, or reduced inside it) counts as a call.
+    monkeypatch.setattr(engine, "compute", counting(engine.compute))
+    monkeypatch.setattr(engine, "compute_weighted", counting(engine.compute_weighted))
     anodize_colours("Ti", np.linspace(0, 120, 600))
     assert len(calls) == 1 and calls[0].shape == (600, 1)
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import ast
 import subprocess
 import sys
 
@@ -23,6 +24,56 @@ def test_help_imports_no_heavy_library():
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "[]", out.stdout
+
+
+def _libraries_loaded(args) -> set:
+    """The heavy libraries (top-level names) a command has imported by the time it ends."""
+    code = (
+        "import sys, io, contextlib\n"
+        "from filmoptic.cli import main\n"
+        "with contextlib.redirect_stdout(io.StringIO()):\n"
+        f"    code = main({[str(a) for a in args]!r})\n"
+        "assert code == 0, code\n"
+        f"print(sorted({{m.split('.')[0] for m in sys.modules}} & set({HEAVY + ('PIL',)!r})))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    return set(ast.literal_eval(out.stdout.strip().splitlines()[-1]))
+
+
+@pytest.mark.parametrize("args", [
+    ["spectrum", "Ti 12nm / glass 4mm", "--json"],
+    ["spectrum", "[TiO2 55nm / SiO2 92nm]x4 / glass 1mm", "--angle", "30"],
+    ["materials", "Ti", "--json"],
+])
+def test_spectra_need_neither_colour_science_nor_scipy(args):
+    # Start-up in a blink: the n,k interpolation and the engine are plain numpy.
+    assert _libraries_loaded(args) == {"numpy"}
+
+
+@pytest.mark.parametrize("args", [
+    ["color", "Cr 8nm / glass 4mm", "--json"],
+    ["color", "Ti 12nm / glass 4mm", "--illuminant", "F11", "--observer", "10", "--angles", "0:60:30"],
+    ["sweep", "TiO2 ? / Ti", "--range", "0:250:1", "--json"],
+    ["solve", "Ti ? / glass 4mm", "--luminous-T", "30%", "--json"],
+    ["solve", "TiO2 ? / Ti", "--hex", "#3d64ab", "--json"],
+    ["compare", "Ti", "Cr", "--on", "glass 4mm", "--luminous-T", "30%", "--json"],
+    ["anodize", "Ti", "--json"],
+    ["heat-tint", "steel", "--json"],
+    ["monitor", "Ti ? / glass 4mm", "--source", "led:530/30", "--detector", "flat", "--luminous-T", "30%",
+     "--plan", "--json"],
+    ["design", "Cr 8.1nm / glass 4mm", "--check-only", "--goal", "luminous-T = 30% within 2%",
+     "--tolerance", "1nm", "--samples", "200", "--json"],
+])
+def test_colour_commands_do_not_import_colour_science(args):
+    # The CIE tables are shipped and the transforms written out (filmoptic.cie); colour-science,
+    # matplotlib and scipy stay out of a command that needs none of them.
+    assert _libraries_loaded(args) == {"numpy"}
+
+
+def test_colour_science_is_imported_when_a_feature_needs_it():
+    # A Munsell notation comes from colour-science, and so does an illuminant beyond the shipped set.
+    assert "colour" in _libraries_loaded(["color", "Cr 8nm / glass 4mm", "--munsell", "--json"])
+    assert "colour" in _libraries_loaded(["color", "Cr 8nm / glass 4mm", "--illuminant", "D60", "--json"])
 
 
 @pytest.mark.parametrize("command", ["spectrum", "color", "sweep", "solve", "compare", "rate", "fit", "map", "materials", "demo",

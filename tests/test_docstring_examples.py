@@ -76,6 +76,11 @@ MODULES = [
     "filmoptic.materials.common_names",
     "filmoptic.cli.spectrum",
     "filmoptic.cli.sweep",
+    "filmoptic.interpolate",
+    "filmoptic.sampling",
+    "filmoptic.cie.tables",
+    "filmoptic.cie.transforms",
+    "filmoptic.descriptions",
 ]
 
 

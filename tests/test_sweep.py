@@ -50,13 +50,16 @@ def test_whole_grid_in_one_engine_call(run_cli, monkeypatch):
     import filmoptic.engine as engine
 
     calls = []
-    original = engine.compute
 
-    def counting(*args, **kwargs):
-        calls.append(np.shape(kwargs.get("thickness_nm")))
-        return original(*args, **kwargs)
+    def counting(original):
+        def count(*args, **kwargs):
+            calls.append(np.shape(kwargs.get("thickness_nm")))
+            return original(*args, **kwargs)
+        return count
 
-    monkeypatch.setattr(engine, "compute", counting)
+    # Either entry point of the engine (whole spectra, or reduced inside it) counts as a call.
+    monkeypatch.setattr(engine, "compute", counting(engine.compute))
+    monkeypatch.setattr(engine, "compute_weighted", counting(engine.compute_weighted))
     result = run_cli(["sweep", "[TiO2 20nm / SiO2 ?]x2 / glass 1mm", "--range", "0:1000:1", "--json"])
     assert result.exit_code == 0, result.stderr
     assert calls == [(1001, 1)]

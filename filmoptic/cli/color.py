@@ -28,8 +28,9 @@ __all__ = ["color", "illuminant_option", "observer_option", "colour_json", "LOW_
 illuminant_option = click.option(
     "--illuminant", default="D65", show_default=True, metavar="NAME|FILE",
     help="Light the part is seen under: D65 (daylight), D50, A (incandescent), C, E, F1–F12 "
-         "(fluorescent), LED-B1…LED-B5, LED-BH1, LED-RGB1, LED-V1, LED-V2, or a two-column file "
-         "'wavelength_nm value' with the lamp's relative spectrum covering 380–780 nm.",
+         "(fluorescent), LED-B1…LED-B5, LED-BH1, LED-RGB1, LED-V1, LED-V2, another CIE "
+         "illuminant by its name in colour-science (D60, FL3.1…FL3.15, HP1…HP5, ID65, …), or a "
+         "two-column file 'wavelength_nm value' with the lamp's relative spectrum covering 380–780 nm.",
 )
 class ObserverType(click.Choice):
     """2 or 10, also written with a degree sign or 'deg' (10°, 10deg) as people do."""
@@ -160,6 +161,45 @@ def _angles_json(angles, result) -> list:
     return entries
 
 
+def _temperature_json(t):
+    return None if t is None else {"K": t.cct_K, "Duv": t.duv, "xy": list(t.xy)}
+
+
+def _description_json(description, munsell, cct) -> dict:
+    out = {}
+    if munsell:
+        out["munsell"] = {"reflected": description.munsell, "reflected_reverse": description.munsell_reverse,
+                          "illuminant": "C", "observer": 2}
+    if cct:
+        out["cct"] = {"light": _temperature_json(description.light),
+                      "transmitted": _temperature_json(description.transmitted)}
+    out["description_notes"] = list(description.notes)
+    return out
+
+
+def _temperature_text(t) -> str:
+    if t is None:
+        return "none"
+    kelvin = "no CCT" if t.cct_K is None else f"{t.cct_K:.0f} K"
+    return f"{kelvin} (Duv {t.duv:+.4f})"
+
+
+def _echo_description(description, munsell, cct) -> None:
+    click.echo("")
+    if munsell:
+        text = f"Munsell (illuminant C, 2°): reflected, coated side {description.munsell or '–'}"
+        if description.munsell_reverse is not None:
+            text += f"; substrate side {description.munsell_reverse}"
+        click.echo(text)
+    if cct:
+        text = f"Correlated colour temperature: the light ({description.illuminant}) {_temperature_text(description.light)}"
+        if description.transmitted is not None:
+            text += f"; through the part {_temperature_text(description.transmitted)}"
+        click.echo(text)
+    for note in description.notes:
+        click.echo(f"Note: {note}.")
+
+
 def caution_if_dark(luminous_T) -> None:
     """Warn on stderr when light does pass but little of it (the case people misuse as a filter)."""
     import numpy as np
@@ -187,10 +227,23 @@ def caution_if_dark(luminous_T) -> None:
     help="Write a printable colour sheet (one page, A4 or --paper letter) of the part's colours with "
          "their values: .png, .svg or .pdf.",
 )
+@click.option(
+    "--munsell", is_flag=True,
+    help="Also give the Munsell notation (hue value/chroma, e.g. 5.2PB 4.1/8.3) of the reflected "
+         "colours, as if they were matte surfaces, under illuminant C (the Munsell system's own "
+         "light, whatever --illuminant says). Colours outside the Munsell data have none.",
+)
+@click.option(
+    "--cct", is_flag=True,
+    help="Also give the correlated colour temperature of the light and of the light that comes "
+         "through the part, in kelvin, with Duv, its distance from the black-body line (none "
+         "beyond 0.05).",
+)
 @paper_option
 @extrapolate_option
 @json_option
-def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, paper, extrapolate, as_json):
+def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, munsell, cct, paper, extrapolate,
+          as_json):
     """Colour and luminous values of STACK seen in reflection and transmission.
 
     STACK is written in the order light meets it and must have no unknowns, e.g.
@@ -229,7 +282,9 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, pape
     substrate), transmitted (null when no light comes through), luminous (T, R, R_reverse,
     A_layers, A_substrate as fractions) and transmission (what T means: exits, enters substrate
     or opaque) and surface_oxides (what 'METAL D + Xnm oxide' expanded to), plus angles when
-    --angles is given.
+    --angles is given, munsell (reflected, reflected_reverse, illuminant, observer) with
+    --munsell, cct (light and transmitted, each with K, Duv and xy) with --cct, and
+    description_notes (why one of them is missing).
 
     Colours on screen and in print depend on the device; compare physical samples under the
     chosen light before promising a colour to a customer.
@@ -250,6 +305,12 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, pape
         result = appearance(parsed, illuminant=illuminant, observer=obs, angle_deg=angle, extrapolate=extrapolate)
         by_angle = (appearance(parsed, illuminant=illuminant, observer=obs, angle_deg=angle_list,
                                extrapolate=extrapolate) if angle_list is not None else None)
+        description = None
+        if munsell or cct:
+            from filmoptic.descriptions import describe
+
+            description = describe(parsed, illuminant=illuminant, angle_deg=angle, extrapolate=extrapolate,
+                                   munsell=munsell, cct=cct)
         warn_thin_metal(parsed)
 
     if swatch_path:
@@ -278,6 +339,8 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, pape
         }
         if by_angle is not None:
             payload["angles"] = _angles_json(angle_list, by_angle)
+        if description is not None:
+            payload.update(_description_json(description, munsell, cct))
         emit_json(payload)
     else:
         title = f"Colour of {stack!r} — {label} light, {obs}° observer, seen at {angle:g}°, in {ambient}"
@@ -291,6 +354,8 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, pape
             flagged += [by_angle.reflected, by_angle.reflected_reverse, by_angle.transmitted]
         if any(c is not None and not np.all(c.in_gamut) for c in flagged):
             click.echo(OUT_OF_GAMUT_NOTE)
+        if description is not None:
+            _echo_description(description, munsell, cct)
 
     if swatch_path and not as_json:
         click.echo(f"Swatch written to {swatch_path}")

@@ -3,7 +3,10 @@
 An :class:`Evaluator` binds a set of goals to a template stack. Goals that look at the same
 light (same side, polarisation and angles) share one engine call over the union of their
 wavelengths, so a batch of B designs costs one :func:`filmoptic.engine.compute` per such group
-(in chunks that bound memory), whatever the number of goals.
+(in chunks that bound memory), whatever the number of goals. A group of only luminous and colour
+goals never holds spectra: the engine reduces each of its chunks to the luminous values and XYZ
+the goals look at (:func:`filmoptic.engine.compute_weighted`), which keeps a Monte Carlo run of
+many thousand designs in a few megabytes.
 """
 
 from __future__ import annotations
@@ -14,7 +17,7 @@ import numpy as np
 
 from filmoptic.errors import FilmopticError
 
-from .goals import achieved, lab_of, samples_of, shortfall
+from .goals import achieved, goal_weights, lab_from_sums, lab_of, samples_from_sums, samples_of, shortfall
 
 __all__ = ["Scores", "Evaluator", "POINTS_PER_CHUNK"]
 
@@ -91,7 +94,24 @@ class Evaluator:
             own = goal.wavelengths_nm(self.step_nm)
             self._plan.append((key, np.searchsorted(wl, own), own))
         self._weights = np.array([g.weight for g in self.goals])
-        points = max(len(k[2]) * wl.size for k, wl in self._groups.items())
+        # Groups of only luminous and colour goals are reduced inside the engine: per goal, the
+        # columns of the group's weight matrix that hold its luminous value or XYZ.
+        self._reduced = {}
+        self._columns = [None] * len(self.goals)
+        for key, wl in self._groups.items():
+            members = [i for i, (k, _, _) in enumerate(self._plan) if k == key]
+            if any(self.goals[i].kind == "spectral" for i in members):
+                continue
+            blocks, start = [], 0
+            for i in members:
+                w = goal_weights(self.goals[i], wl)
+                blocks.append(w)
+                self._columns[i] = slice(start, start + w.shape[1])
+                start += w.shape[1]
+            channels = tuple(sorted({self.goals[i].quantity for i in members}))
+            self._reduced[key] = (np.concatenate(blocks, axis=1), channels)
+        points = max(len(k[2]) * (self._reduced[k][0].shape[1] if k in self._reduced else wl.size)
+                     for k, wl in self._groups.items())
         self.chunk = int(max(16, min(8192, POINTS_PER_CHUNK // max(points, 1))))
         self._check_light_paths()
 
@@ -112,15 +132,36 @@ class Evaluator:
     # ------------------------------------------------------------------------------------------
     def spectra(self, X) -> dict:
         """R, T, A of every design for every group: ``{key: (R, T, A)}``, each ``(B, nA, W)``."""
+        return self._spectra_of(self._rows(X), list(self._groups))
+
+    def _spectra_of(self, X, keys) -> dict:
         from filmoptic.engine import compute
 
-        X = self._rows(X)
         out = {}
-        for key, wl in self._groups.items():
+        for key in keys:
+            wl = self._groups[key]
             side, pol, angles = key
             s = compute(self.template, wl, angle_deg=np.array(angles), polarization=pol,
                         reverse=(side == "reverse"), thickness_nm=X, extrapolate=self.extrapolate)
             out[key] = (s.R, s.T, s.A)
+        return out
+
+    def _light(self, X) -> dict:
+        """Per group: ``("spectra", (R, T, A))`` of shape ``(B, nA, W)``, or for a reduced group
+        ``("sums", {channel: (B, nA, M)})``."""
+        from filmoptic.engine import compute_weighted
+
+        out = {}
+        full_keys = [key for key in self._groups if key not in self._reduced]
+        if full_keys:
+            spectra = self._spectra_of(X, full_keys)
+            out.update({key: ("spectra", value) for key, value in spectra.items()})
+        for key, (weights, channels) in self._reduced.items():
+            side, pol, angles = key
+            sums = compute_weighted(self.template, self._groups[key], weights, angle_deg=np.array(angles),
+                                    polarization=pol, reverse=(side == "reverse"), thickness_nm=X,
+                                    extrapolate=self.extrapolate, channels=channels)
+            out[key] = ("sums", {c: getattr(sums, c) for c in channels})
         return out
 
     def scores(self, X) -> Scores:
@@ -141,18 +182,22 @@ class Evaluator:
     def goal_samples(self, X) -> list:
         """Per goal, its samples ``(B, n)`` (fractions, or ΔE00)."""
         X = self._rows(X)
-        return self._samples(self.spectra(X))
+        return self._samples(self._light(X))
 
     def colours(self, X) -> list:
         """Per goal, CIELAB ``(B, nA, 3)`` of its channel for colour goals, else None."""
         X = self._rows(X)
-        spectra = self.spectra(X)
+        light = self._light(X)
         out = []
-        for goal, (key, index, own) in zip(self.goals, self._plan):
+        for k, (goal, (key, index, own)) in enumerate(zip(self.goals, self._plan)):
             if goal.kind != "colour":
                 out.append(None)
                 continue
-            out.append(lab_of(goal, self._channel(goal, spectra[key])[..., index], own))
+            kind, values = light[key]
+            if kind == "sums":
+                out.append(lab_from_sums(goal, values[goal.quantity][..., self._columns[k]], own))
+            else:
+                out.append(lab_of(goal, self._channel(goal, values)[..., index], own))
         return out
 
     # ------------------------------------------------------------------------------------------
@@ -168,13 +213,19 @@ class Evaluator:
         R, T, A = spectra
         return {"R": R, "T": T, "A": A}[goal.quantity]
 
-    def _samples(self, spectra) -> list:
-        return [samples_of(goal, self._channel(goal, spectra[key])[..., index], own)
-                for goal, (key, index, own) in zip(self.goals, self._plan)]
+    def _samples(self, light) -> list:
+        out = []
+        for k, (goal, (key, index, own)) in enumerate(zip(self.goals, self._plan)):
+            kind, values = light[key]
+            if kind == "sums":
+                out.append(samples_from_sums(goal, values[goal.quantity][..., self._columns[k]], own))
+            else:
+                out.append(samples_of(goal, self._channel(goal, values)[..., index], own))
+        return out
 
     def _scores(self, X) -> Scores:
         self.designs_evaluated += X.shape[0]
-        samples = self._samples(self.spectra(X))
+        samples = self._samples(self._light(X))
         residuals, values, met = [], [], []
         for goal, s in zip(self.goals, samples):
             short = shortfall(goal, s)

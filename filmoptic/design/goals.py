@@ -516,31 +516,54 @@ def read_goals_file(path, illuminant: str = "D65") -> tuple:
 # --------------------------------------------------------------------------------------------
 
 
+def goal_weights(goal: Goal, wavelength_nm) -> np.ndarray | None:
+    """What a luminous or colour goal reduces its channel to: weights of shape ``(W, 1)`` (luminous
+    value) or ``(W, 3)`` (CIE XYZ, 2° observer) over ``wavelength_nm``; None for a spectral goal,
+    which looks at every wavelength itself."""
+    from filmoptic import colorimetry
+
+    if goal.kind == "spectral":
+        return None
+    if goal.kind == "luminous":
+        return colorimetry.luminous_weights(wavelength_nm, goal.illuminant)[:, None]
+    return colorimetry.tristimulus_weights(wavelength_nm, goal.illuminant, 2)
+
+
+def samples_from_sums(goal: Goal, sums, wavelength_nm) -> np.ndarray:
+    """A luminous or colour goal's samples ``(B, n_angles)`` from its channel already reduced with
+    :func:`goal_weights` (``sums`` of shape ``(B, n_angles, 1 or 3)``): fractions, or ΔE00."""
+    from filmoptic import colorimetry
+
+    sums = np.asarray(sums, dtype=float)
+    if goal.kind == "luminous":
+        return sums[..., 0]
+    delta = colorimetry.delta_e00(np.reshape(lab_from_sums(goal, sums, wavelength_nm), (-1, 3)),
+                                  np.asarray(goal.lab, dtype=float))
+    return np.reshape(delta, sums.shape[:2])
+
+
+def lab_from_sums(goal: Goal, XYZ, wavelength_nm) -> np.ndarray:
+    """CIELAB ``(B, n_angles, 3)`` of a colour goal's channel from its XYZ ``(B, n_angles, 3)``."""
+    from filmoptic import colorimetry
+
+    XYZ = np.asarray(XYZ, dtype=float)
+    lab = colorimetry.colour_from_XYZ(XYZ.reshape(-1, 3), wavelength_nm, goal.illuminant, 2).Lab
+    return np.reshape(lab, XYZ.shape[:2] + (3,))
+
+
 def samples_of(goal: Goal, values, wavelength_nm) -> np.ndarray:
     """The goal's samples from its channel: ``values`` of shape ``(B, n_angles, n_wavelengths)``
     on ``wavelength_nm`` gives ``(B, n_samples)`` (fractions, or ΔE00 for colours)."""
     values = np.asarray(values, dtype=float)
-    batch = values.shape[0]
     if goal.kind == "spectral":
-        return values.reshape(batch, -1)
-    from filmoptic import colorimetry
-
-    if goal.kind == "luminous":
-        return values @ colorimetry.luminous_weights(wavelength_nm, goal.illuminant)
-    XYZ = values @ colorimetry.tristimulus_weights(wavelength_nm, goal.illuminant, 2)
-    lab = colorimetry.colour_from_XYZ(XYZ.reshape(-1, 3), wavelength_nm, goal.illuminant, 2).Lab
-    delta = colorimetry.delta_e00(np.reshape(lab, (-1, 3)), np.asarray(goal.lab, dtype=float))
-    return np.reshape(delta, values.shape[:2])
+        return values.reshape(values.shape[0], -1)
+    return samples_from_sums(goal, values @ goal_weights(goal, wavelength_nm), wavelength_nm)
 
 
 def lab_of(goal: Goal, values, wavelength_nm) -> np.ndarray:
     """CIELAB of a colour goal's channel, shape ``(B, n_angles, 3)``."""
-    from filmoptic import colorimetry
-
     values = np.asarray(values, dtype=float)
-    XYZ = values @ colorimetry.tristimulus_weights(wavelength_nm, goal.illuminant, 2)
-    lab = colorimetry.colour_from_XYZ(XYZ.reshape(-1, 3), wavelength_nm, goal.illuminant, 2).Lab
-    return np.reshape(lab, values.shape[:2] + (3,))
+    return lab_from_sums(goal, values @ goal_weights(goal, wavelength_nm), wavelength_nm)
 
 
 def shortfall(goal: Goal, samples) -> np.ndarray:

@@ -92,24 +92,29 @@ class TabulatedMaterial(Material):
     def interpolants(self):
         """The (n, k) PCHIP interpolants, built on first use."""
         if self._interpolants is None:
-            from scipy.interpolate import PchipInterpolator
+            from filmoptic.interpolate import Pchip
 
-            # Flat stretches (k = 0 over a transparent range) make scipy divide by a zero slope
-            # internally; it handles that case correctly, so the warning is noise.
-            with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
-                self._interpolants = (
-                    PchipInterpolator(self.wavelength, self.n, extrapolate=False),
-                    PchipInterpolator(self.wavelength, self.k, extrapolate=False),
-                )
+            self._interpolants = (Pchip(self.wavelength, self.n), Pchip(self.wavelength, self.k))
         return self._interpolants
 
     def _nk(self, wl):
+        # Fits, designs and monitors ask again and again for the same wavelengths: the last
+        # answer is kept (the caller copies it; the table never changes).
+        key = (wl.shape, wl.tobytes())
+        last = getattr(self, "_last", None)
+        if last is not None and last[0] == key:
+            return last[1]
         if self.wavelength.size == 1:
-            return np.full(wl.shape, complex(self.n[0], self.k[0]))
-        if self._gas is not None:
-            return self._gas_nk(wl)
-        n_of, k_of = self.interpolants()
-        return n_of(wl) + 1j * np.maximum(k_of(wl), 0.0)
+            N = np.full(wl.shape, complex(self.n[0], self.k[0]))
+        elif self._gas is not None:
+            N = self._gas_nk(wl)
+        else:
+            n_of, k_of = self.interpolants()
+            N = n_of(wl) + 1j * np.maximum(k_of(wl), 0.0)
+        N = np.asarray(N, dtype=complex)
+        N.flags.writeable = False
+        self._last = (key, N)
+        return N
 
     def _gas_nk(self, wl):
         """Inside the table as tabulated; above it the dispersion formula of its header, which
