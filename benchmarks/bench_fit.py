@@ -41,9 +41,9 @@ def main() -> int:
 
     from filmoptic.demo import scenario as sc
     from filmoptic.engine import compute
-    from filmoptic.fit import fit_spectra, parameter_bounds
+    from filmoptic.inverse.fit import fit_spectra, parameter_bounds
     from filmoptic.materials import get_material
-    from filmoptic.measured import MeasuredSpectrum
+    from filmoptic.inverse.measured import MeasuredSpectrum
     from filmoptic.stack import parse_stack
 
     wl = np.linspace(sc.FIT_WAVELENGTHS_NM[0], sc.FIT_WAVELENGTHS_NM[1], POINTS)

@@ -62,7 +62,7 @@ IRREGULAR = {"measured": "1000.5,nan", "readings": "Pz,30%"}
 def main():
     from filmoptic.cli.solve import _read_column
     from filmoptic.colorimetry import read_spectrum_file
-    from filmoptic.measured import read_spectrum
+    from filmoptic.inverse.measured import read_spectrum
     from filmoptic.materials.tables import read_nk_file
 
     readers = {

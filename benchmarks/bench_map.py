@@ -52,7 +52,7 @@ def _render(folder: Path):
 def main() -> int:
     from filmoptic.imaging.maps import map_thickness
     from filmoptic.imaging.photo import cell_grid, cell_statistics, read_photo, rectangle_statistics
-    from filmoptic.solve import Reading, solve_thickness
+    from filmoptic.inverse.solve import Reading, solve_thickness
 
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)

@@ -6,7 +6,7 @@ Prints timings and ratios measured in this run (no absolute thresholds):
   (what a Python loop over wavelengths would cost);
 * listing the library (headers only) versus parsing every table;
 * a Bruggeman mix of two tables on the same grid;
-* filmoptic's numpy PCHIP (``filmoptic.interpolate.Pchip``) against scipy's
+* filmoptic's numpy PCHIP (``filmoptic.numerics.interpolate.Pchip``) against scipy's
   ``PchipInterpolator`` on the same table: building the interpolant and evaluating it, and the
   import each needs (scipy.interpolate is what commands no longer import at start-up).
 
@@ -79,7 +79,7 @@ def main():
     import subprocess
     import sys
 
-    from filmoptic.interpolate import Pchip
+    from filmoptic.numerics.interpolate import Pchip
 
     def import_time(module):
         code = f"import time; t = time.perf_counter(); import {module}; print(time.perf_counter() - t)"
@@ -87,7 +87,7 @@ def main():
                                      check=True).stdout) for _ in range(5)]
         return sorted(runs)[2]
 
-    ours_import = import_time("filmoptic.interpolate")
+    ours_import = import_time("filmoptic.numerics.interpolate")
     scipy_import = import_time("scipy.interpolate")
     from scipy.interpolate import PchipInterpolator
 
@@ -102,7 +102,7 @@ def main():
           f"scipy {scipy_build * 1e6:7.1f} µs ({scipy_build / ours_build:.1f}x)")
     print(f"  evaluate on {grid.size} wavelengths:     numpy {ours_eval * 1e3:7.2f} ms, "
           f"scipy {scipy_eval * 1e3:7.2f} ms ({scipy_eval / ours_eval:.2f}x); identical: {same}")
-    print(f"  import (median of 5 fresh processes): filmoptic.interpolate {ours_import * 1e3:.1f} ms, "
+    print(f"  import (median of 5 fresh processes): filmoptic.numerics.interpolate {ours_import * 1e3:.1f} ms, "
           f"scipy.interpolate {scipy_import * 1e3:.0f} ms")
 
 

@@ -31,7 +31,7 @@ def main() -> int:
     from filmoptic.demo import scenario as sc
     from filmoptic.demo.monitor import _mirror_run
     from filmoptic.monitor.session import Monitor, RunLog, prepare
-    from filmoptic.solve import Reading, Target, solve_thickness
+    from filmoptic.inverse.solve import Reading, Target, solve_thickness
 
     recording = _mirror_run()
     t0 = time.perf_counter()

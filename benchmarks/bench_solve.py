@@ -36,7 +36,7 @@ def _best_of(func, repeat):
 def main() -> int:
     from scipy.optimize import brentq
 
-    from filmoptic.solve import Reading, Target, evaluate_condition, solve_batch, solve_thickness
+    from filmoptic.inverse.solve import Reading, Target, evaluate_condition, solve_batch, solve_thickness
     from filmoptic.stack import parse_stack
 
     stack = parse_stack(STACK)

@@ -1,4 +1,4 @@
-"""Comparing candidate materials (filmoptic.choose, ``filmoptic compare``)."""
+"""Comparing candidate materials (filmoptic.inverse.choose, ``filmoptic compare``)."""
 
 from __future__ import annotations
 
@@ -8,9 +8,9 @@ import numpy as np
 import pytest
 
 from conftest import assert_user_error
-from filmoptic.choose import compare_materials
+from filmoptic.inverse.choose import compare_materials
 from filmoptic.errors import FilmopticError
-from filmoptic.solve import ColourTarget, Target, evaluate_condition
+from filmoptic.inverse.solve import ColourTarget, Target, evaluate_condition
 
 
 def test_each_candidate_meets_the_target_and_reports_consistent_companions():

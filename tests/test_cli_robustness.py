@@ -291,8 +291,8 @@ def test_fit_takes_pol_like_spectrum_and_spectrum_takes_polarization_like_fit(ru
                       "--max-grid", "200", "--starts", "1", "--json"])
     assert fitted.exit_code == 0, fitted.stderr
     # '--pol S' reached the fit as s-polarised light: the command gives the API's answer.
-    from filmoptic.fit import fit_spectra
-    from filmoptic.measured import read_spectrum
+    from filmoptic.inverse.fit import fit_spectra
+    from filmoptic.inverse.measured import read_spectrum
 
     api = fit_spectra("n=1.3..1.6 10..200nm / glass 1mm", [read_spectrum("T.csv")], polarization="s",
                       max_grid=200, starts=1)

@@ -9,7 +9,7 @@ import pytest
 
 from conftest import assert_user_error
 from filmoptic import colorimetry as cm
-from filmoptic.descriptions import describe, light_chromaticity, light_temperature, munsell_notation
+from filmoptic.describe.descriptions import describe, light_chromaticity, light_temperature, munsell_notation
 
 WL = cm.default_wavelengths()
 

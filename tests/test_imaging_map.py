@@ -31,7 +31,7 @@ from filmoptic.imaging.render import (
     write_jpeg,
     write_png,
 )
-from filmoptic.solve import Reading, evaluate_condition
+from filmoptic.inverse.solve import Reading, evaluate_condition
 
 STACK = "Ti ? / glass 4mm"
 H, W = 240, 320

@@ -12,10 +12,10 @@ import numpy as np
 import pytest
 
 from filmoptic.colorimetry import colour_sweep
-from filmoptic.colour_words import colour_word
+from filmoptic.describe.colour_words import colour_word
 from filmoptic.errors import FilmopticError
-from filmoptic.ladder import colour_ladder, parse_tolerance, rung_positions
-from filmoptic.solve import lab_from_hex
+from filmoptic.describe.ladder import colour_ladder, parse_tolerance, rung_positions
+from filmoptic.inverse.solve import lab_from_hex
 
 # The photopic luminosity function peaks at 555 nm (CIE 1924 V(λ), tabulated in CIE 15:2018 and
 # ISO 23539:2005): the luminous reflectance is lowest where the reflectance is lowest near there.

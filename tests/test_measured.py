@@ -1,4 +1,4 @@
-"""Reading measured spectra (filmoptic.measured.read_spectrum).
+"""Reading measured spectra (filmoptic.inverse.measured.read_spectrum).
 
 The files here are written by the tests in the layouts spectrometer software exports (comma,
 semicolon, tab and space separated; percent or fraction; nm or µm) — a fact of the trade, common
@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 
 from filmoptic.errors import DataFileError
-from filmoptic.measured import read_spectrum
+from filmoptic.inverse.measured import read_spectrum
 
 
 def write(tmp_path, name, text, encoding="utf-8"):

@@ -1,6 +1,6 @@
 """Readings as they come off a meter, the guards against a wrong answer given without a word, and
 the outputs a coater looks for first (``filmoptic solve``, ``spectrum``, ``sweep``; the reading
-model in ``filmoptic.readings``)."""
+model in ``filmoptic.inverse.readings``)."""
 
 from __future__ import annotations
 
@@ -13,7 +13,7 @@ import tmm
 
 from conftest import assert_user_error
 from filmoptic.errors import FilmopticError
-from filmoptic.readings import (
+from filmoptic.inverse.readings import (
     LED_DEFAULT_FWHM_NM,
     SILICON_RESPONSE,
     band_weights,
@@ -21,7 +21,7 @@ from filmoptic.readings import (
     detector_response,
     parse_reading,
 )
-from filmoptic.solve import Reading, evaluate_condition
+from filmoptic.inverse.solve import Reading, evaluate_condition
 
 MIRROR = "Ti ? / glass 4mm"
 
@@ -345,7 +345,7 @@ def test_readers_say_how_they_read(run_cli, tmp_path):
 
     measured = tmp_path / "T.csv"
     measured.write_text("wl (nm);T (%)\n400;90,5\n500;x\n600;91,0\n", encoding="utf-8")
-    from filmoptic.measured import read_spectrum
+    from filmoptic.inverse.measured import read_spectrum
 
     how = read_spectrum(measured).how_read
     for fragment in ("semicolons between fields, decimal comma", "wavelength in nm (from the header)",

@@ -80,7 +80,7 @@ def mirror():
     """The demo scenario's semi-mirror: its plan and its synthetic recording."""
     from filmoptic.demo import scenario as sc
     from filmoptic.demo.monitor import _mirror_run
-    from filmoptic.solve import Target
+    from filmoptic.inverse.solve import Target
 
     plan = prepare(sc.MONITOR_STACK, source=sc.MONITOR_SOURCE, detector=sc.MONITOR_DETECTOR,
                    conditions=[Target("luminous_T", sc.MONITOR_TARGET_LUMINOUS_T)])
@@ -471,7 +471,7 @@ def test_missing_pyserial_is_one_clear_error(monkeypatch):
 
 def test_plan_gives_nm_per_percent_from_the_slope(mirror):
     from filmoptic.monitor.plan import plan_table
-    from filmoptic.solve import Reading, evaluate_condition
+    from filmoptic.inverse.solve import Reading, evaluate_condition
 
     plan, _, sc = mirror
     table = plan_table(plan, sc.MONITOR_RATE_NM_PER_S)

@@ -37,7 +37,7 @@ def recording():
 def expected_stop(recording):
     """Where the same recording, fed straight to the API, reaches the target."""
     from filmoptic.monitor.session import Monitor, prepare
-    from filmoptic.solve import Target
+    from filmoptic.inverse.solve import Target
 
     plan = prepare(sc.MONITOR_STACK, source=sc.MONITOR_SOURCE, detector=sc.MONITOR_DETECTOR,
                    conditions=[Target("luminous_T", sc.MONITOR_TARGET_LUMINOUS_T)])

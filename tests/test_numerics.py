@@ -16,10 +16,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from filmoptic.envelope import find_extrema, peak_indices
-from filmoptic.interpolate import CubicSpline, Pchip, pchip_slopes, spline_slopes
-from filmoptic.rate import chi2_survival
-from filmoptic.sampling import halton, radical_inverse
+from filmoptic.inverse.envelope import find_extrema, peak_indices
+from filmoptic.numerics.interpolate import CubicSpline, Pchip, pchip_slopes, spline_slopes
+from filmoptic.inverse.rate import chi2_survival
+from filmoptic.numerics.sampling import halton, radical_inverse
 
 
 def _random_table(rng, n, flat_share=0.0):

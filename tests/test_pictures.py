@@ -14,7 +14,7 @@ import pytest
 from figure_checks import A4_IN, LETTER_IN, assert_reads_well, look_at, pdf_page_points
 
 from filmoptic.colorimetry import appearance
-from filmoptic.ladder import colour_ladder
+from filmoptic.describe.ladder import colour_ladder
 
 A4_PT = (595.2756, 841.8898)
 LETTER_PT = (612.0, 792.0)
@@ -116,7 +116,7 @@ def test_ab_view_labels_never_overlap(oxide_on_titanium):
 def _sheet(stack, angles=(0.0, 20.0, 40.0, 60.0), **kwargs):
     from filmoptic.plots.swatch import swatch_figure
     from filmoptic.stack import parse_stack
-    from filmoptic.views import back_side
+    from filmoptic.describe.views import back_side
 
     result = appearance(stack)
     by_angle = appearance(stack, angle_deg=list(angles)) if angles else None
@@ -202,8 +202,8 @@ def test_nk_plot_marks_the_visible_band():
 
 def test_fit_plot_names_its_axis_and_explains_the_residuals():
     from filmoptic.engine import compute
-    from filmoptic.fit import fit_spectra
-    from filmoptic.measured import MeasuredSpectrum
+    from filmoptic.inverse.fit import fit_spectra
+    from filmoptic.inverse.measured import MeasuredSpectrum
     from filmoptic.plots.fit import plot_fit
 
     wl = np.arange(400.0, 901.0, 5.0)

@@ -1,4 +1,4 @@
-"""Deposition rate from calibration runs (filmoptic.rate, ``filmoptic rate``)."""
+"""Deposition rate from calibration runs (filmoptic.inverse.rate, ``filmoptic rate``)."""
 
 from __future__ import annotations
 
@@ -11,7 +11,7 @@ from hypothesis import assume, given, settings, strategies as st
 
 from conftest import assert_user_error
 from filmoptic.errors import FilmopticError
-from filmoptic.rate import Run, fit_rate, parse_run, parse_thickness
+from filmoptic.inverse.rate import Run, fit_rate, parse_run, parse_thickness
 
 # Durations and thicknesses below are arbitrary inputs for checking the arithmetic; the answers
 # are computed independently in each test, never hard-coded.
@@ -353,7 +353,7 @@ def test_cli_solve_file_with_several_solutions_needs_a_choice(tmp_path, run_cli)
 
 
 def test_solve_file_choice_in_the_api(tmp_path):
-    from filmoptic.rate import thickness_from_solve_file
+    from filmoptic.inverse.rate import thickness_from_solve_file
 
     multi = _solve_file(tmp_path / "multi.json", [12.0, 140.0], [0.5, 0.0])
     assert thickness_from_solve_file(f"{multi}#1") == (12.0, 0.5)

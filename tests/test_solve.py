@@ -1,4 +1,4 @@
-"""Thickness solving (filmoptic.solve, ``filmoptic solve``).
+"""Thickness solving (filmoptic.inverse.solve, ``filmoptic solve``).
 
 The forward model is checked against independent references (the ``tmm`` package, closed-form
 thin-film results, colour-science through filmoptic.colorimetry); the solver is checked by round
@@ -17,9 +17,9 @@ from hypothesis import given, settings, strategies as st
 
 from conftest import assert_user_error
 from filmoptic.errors import FilmopticError
-from filmoptic.readings import band_weights, parse_reading
-from filmoptic.roots import find_minima, find_roots, interval_around
-from filmoptic.solve import (
+from filmoptic.inverse.readings import band_weights, parse_reading
+from filmoptic.numerics.roots import find_minima, find_roots, interval_around
+from filmoptic.inverse.solve import (
     ColourTarget,
     Reading,
     Target,

@@ -10,7 +10,7 @@ import tmm
 
 from conftest import assert_user_error
 from filmoptic.errors import FilmopticError
-from filmoptic.solve import ROOT_TOLERANCE, Reading, Target, evaluate_condition, solve_batch, solve_thickness
+from filmoptic.inverse.solve import ROOT_TOLERANCE, Reading, Target, evaluate_condition, solve_batch, solve_thickness
 
 MIRROR = "Ti ? / glass 4mm"
 

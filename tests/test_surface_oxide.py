@@ -11,7 +11,7 @@ from conftest import assert_user_error
 from filmoptic.engine import compute
 from filmoptic.errors import FilmopticError
 from filmoptic.materials.films import NATIVE_OXIDES, pilling_bedworth_ratio, sample_form
-from filmoptic.solve import Target, solve_thickness
+from filmoptic.inverse.solve import Target, solve_thickness
 from filmoptic.stack import parse_stack
 
 WL = np.linspace(400.0, 800.0, 9)

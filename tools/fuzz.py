@@ -566,8 +566,8 @@ def _warm_up():
     import filmoptic.cli.spectrum  # noqa: F401
     import filmoptic.cli.sweep  # noqa: F401
     import filmoptic.colorimetry  # noqa: F401
-    import filmoptic.fit  # noqa: F401
-    import filmoptic.solve  # noqa: F401
+    import filmoptic.inverse.fit  # noqa: F401
+    import filmoptic.inverse.solve  # noqa: F401
     from filmoptic.cli import main
 
     return main

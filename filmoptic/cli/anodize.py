@@ -213,7 +213,7 @@ def anodize(metal, volts_text, at_text, hex_, lab, max_delta_e, nm_per_volt, off
         if mode == "--at":
             at = anodize_colours(metal, [parse_volts(at_text, "--at")], observer=obs, angle_deg=angle, **options)
         if inverse:
-            from filmoptic.solve import lab_from_hex, parse_lab
+            from filmoptic.inverse.solve import lab_from_hex, parse_lab
 
             target = lab_from_hex(hex_, illuminant) if hex_ else parse_lab(lab)
             matches, closest = voltages_for_colour(metal, target, volts_range=span[:2], tolerance=max_delta_e,

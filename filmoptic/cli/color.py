@@ -71,7 +71,7 @@ def colour_json(colour) -> dict:
 
 
 def _colour_row(label, colour, notation, value) -> list:
-    from filmoptic.colour_words import colour_word
+    from filmoptic.describe.colour_words import colour_word
 
     L, a, b = (float(v) for v in colour.Lab)
     _, C, h = (float(v) for v in colour.LCh)
@@ -83,7 +83,7 @@ def _colour_row(label, colour, notation, value) -> list:
 
 def _main_tables(result, title, stack) -> None:
     """One table, a row per way the part is seen, in the coater's words; the absorbed light beneath."""
-    from filmoptic.views import view_names
+    from filmoptic.describe.views import view_names
 
     names = view_names(stack)
     lum = result.luminous
@@ -123,7 +123,7 @@ def _angle_rows(angles, result) -> list:
 
 
 def _angle_headers(result, stack) -> list:
-    from filmoptic.views import view_names
+    from filmoptic.describe.views import view_names
 
     names = view_names(stack)
     short = {"reflected": "film", "reflected_reverse": names["reflected_reverse"].split()[0],
@@ -307,7 +307,7 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, muns
                                extrapolate=extrapolate) if angle_list is not None else None)
         description = None
         if munsell or cct:
-            from filmoptic.descriptions import describe
+            from filmoptic.describe.descriptions import describe
 
             description = describe(parsed, illuminant=illuminant, angle_deg=angle, extrapolate=extrapolate,
                                    munsell=munsell, cct=cct)
@@ -316,7 +316,7 @@ def color(stack, illuminant, observer, angle, angles, ambient, swatch_path, muns
     if swatch_path:
         # Written before anything is printed, so that a failure leaves no half report on stdout.
         from filmoptic.plots.swatch import swatch_figure
-        from filmoptic.views import back_side
+        from filmoptic.describe.views import back_side
 
         with user_errors():
             sheet_angles, sheet = angle_list, by_angle

@@ -93,7 +93,7 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
     A thin metal film's optical constants differ from the bulk values in the tables; treat the
     thicknesses as a starting point for a calibration run.
     """
-    from filmoptic.choose import compare_materials
+    from filmoptic.inverse.choose import compare_materials
     from filmoptic.units import parse_range_nm
 
     with user_errors():
@@ -127,7 +127,7 @@ def compare(materials, substrate, range_text, angle, ambient, extrapolate, as_js
     click.echo(f"Substrate: {table.substrate}")
     click.echo("")
     from filmoptic.stack import parse_stack
-    from filmoptic.views import back_side
+    from filmoptic.describe.views import back_side
 
     back = back_side(parse_stack(table.substrate, ambient=ambient)).split()[0]
     where = "glass" if back == "glass" else "subst."

@@ -21,7 +21,7 @@ from filmoptic.cli._common import (
 )
 
 def _json_payload(result, spectra):
-    from filmoptic.fit import fit_verdict
+    from filmoptic.inverse.fit import fit_verdict
 
     verdict = fit_verdict(result)
     return {
@@ -127,7 +127,7 @@ def fit(model, files, quantities, angle, polarization, ambient, sigma, fit_range
     or roughness ('mix(TiO2,n=1,?)'). T and R spectra given together are fitted together, at
     the angle of the measurement, with the back side of a thick substrate included. Default
     ranges of '?': 0–150 nm for a metal film, 0–2000 nm for others, and for coefficients see
-    the documentation of filmoptic.fit.
+    the documentation of filmoptic.inverse.fit.
 
     A film's spectrum repeats with its thickness, so the fit first searches the whole thickness
     range on a grid fine enough to resolve the fringes (plus a small grid over the
@@ -159,8 +159,8 @@ def fit(model, files, quantities, angle, polarization, ambient, sigma, fit_range
     residuals show no structure, and confirm critical parts with an independent measurement.
     """
     from filmoptic.errors import WavelengthRangeError
-    from filmoptic.fit import fit_spectra
-    from filmoptic.measured import read_spectrum
+    from filmoptic.inverse.fit import fit_spectra
+    from filmoptic.inverse.measured import read_spectrum
     from filmoptic.stack import parse_stack
     from filmoptic.units import parse_range_nm
 
@@ -196,7 +196,7 @@ def fit(model, files, quantities, angle, polarization, ambient, sigma, fit_range
     if as_json:
         emit_json(_json_payload(result, spectra))
         return
-    from filmoptic.fit import format_report
+    from filmoptic.inverse.fit import format_report
 
     click.echo(format_report(result, spectra))
     if plot_path:

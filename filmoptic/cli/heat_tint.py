@@ -110,7 +110,7 @@ def heat_tint(model_name, range_text, at_text, hex_, lab, max_delta_e, oxide, me
         if mode == "--at":
             one = heat_tint_colours(model, [parse_length_nm(at_text, "--at")], observer=obs, **options)
         if inverse:
-            from filmoptic.solve import lab_from_hex, parse_lab
+            from filmoptic.inverse.solve import lab_from_hex, parse_lab
 
             target = lab_from_hex(hex_, illuminant) if hex_ else parse_lab(lab)
             found = thickness_for_colour(model, target, range_nm=span[:2], tolerance=max_delta_e, **options)

@@ -50,7 +50,7 @@ def _duration(text, what, allow_zero=False):
 
 def _conditions(luminous_t, luminous_r, t_at, r_at, illuminant, side):
     from filmoptic.cli.solve import _wl_value
-    from filmoptic.solve import Target
+    from filmoptic.inverse.solve import Target
     from filmoptic.units import parse_fraction
 
     conditions = []

@@ -79,7 +79,7 @@ def rate(runs, target, tooling, through_origin, as_json):
 
     The rate drifts with target wear, pressure and power; check it regularly.
     """
-    from filmoptic.rate import fit_rate, parse_run
+    from filmoptic.inverse.rate import fit_rate, parse_run
     from filmoptic.units import parse_length_nm
 
     with user_errors():

@@ -157,8 +157,8 @@ def describe_uncertainty(u_text) -> str:
 def _reading_condition(opts):
     """The Reading condition (and the meter reading behind it) from the shared options."""
     from filmoptic.notes import note, warn
-    from filmoptic.readings import band_weights, parse_reading, resolve_source
-    from filmoptic.solve import Reading
+    from filmoptic.inverse.readings import band_weights, parse_reading, resolve_source
+    from filmoptic.inverse.solve import Reading
 
     source, default_note = resolve_source(opts.get("source", "D65"))
     detector = opts.get("detector", "photopic")
@@ -189,7 +189,7 @@ def build_conditions(opts: dict, need_value: bool = True) -> list:
     column of readings, whose values come from a file).
     """
     from filmoptic.errors import FilmopticError
-    from filmoptic.solve import ColourTarget, Target, lab_from_hex, parse_lab
+    from filmoptic.inverse.solve import ColourTarget, Target, lab_from_hex, parse_lab
     from filmoptic.units import parse_fraction
 
     u_text = opts.get("uncertainty")
@@ -248,7 +248,7 @@ def build_conditions(opts: dict, need_value: bool = True) -> list:
 
 def meter_reading(opts: dict):
     """The --reading as it came off the meter (sample, reference, dark, unit), or None."""
-    from filmoptic.readings import parse_reading
+    from filmoptic.inverse.readings import parse_reading
 
     if opts.get("reading") is None:
         return None
@@ -350,7 +350,7 @@ def print_result(result, show_companions: bool, law=None, uncertainty_text=None,
     if show_companions:
         # The coater's words for the views (film side, glass side, through); Tv/Rv per ISO 9050.
         from filmoptic.stack import parse_stack
-        from filmoptic.views import back_side
+        from filmoptic.describe.views import back_side
 
         back = back_side(parse_stack(str(result.stack))).split()[0]
         headers += ["Tv %", "Rv film %", f"Rv {back} %", "A film %", "A subst %", "a*b* film", f"a*b* {back}",
@@ -472,7 +472,7 @@ def _read_column(path: Path, column: str | None, columns: str | None = None, dar
     import numpy as np
 
     from filmoptic.errors import DataFileError, FilmopticError
-    from filmoptic.readings import parse_reading
+    from filmoptic.inverse.readings import parse_reading
 
     from filmoptic.files import check_row_count, guard_input
 
@@ -613,7 +613,7 @@ def _run_batch(stack_text, opts, readings_path, column, columns, out, as_json, c
 
     from filmoptic.errors import FilmopticError
     from filmoptic.notes import note_file
-    from filmoptic.solve import solve_batch
+    from filmoptic.inverse.solve import solve_batch
     from filmoptic.stack import parse_stack
 
     conditions = build_conditions({**opts, "reading": None, "uncertainty": None, "dark": None}, need_value=False)
@@ -633,7 +633,7 @@ def _run_batch(stack_text, opts, readings_path, column, columns, out, as_json, c
     note_file(readings_path, table.how)
     warn_if_half_space(parse_stack(stack_text, ambient=common.get("ambient", "air")), conditions)
     from filmoptic.cli._common import progress
-    from filmoptic.solve import BATCH_STEPS
+    from filmoptic.inverse.solve import BATCH_STEPS
 
     good = np.isfinite(table.values)
     with progress(BATCH_STEPS, f"solving {int(good.sum())} readings") as advance:
@@ -796,7 +796,7 @@ def solve(stack, range_text, step, readings_path, column, columns, out, plot_pat
     protection for sun, welding or laser viewing.
     """
     from filmoptic.errors import FilmopticError, TargetError
-    from filmoptic.solve import solve_thickness
+    from filmoptic.inverse.solve import solve_thickness
     from filmoptic.stack import parse_stack
     from filmoptic.units import parse_range_nm
 

@@ -250,7 +250,7 @@ def sweep(stack, range_text, volts_text, law_metal, nm_per_volt, offset_nm, illu
     from filmoptic.stack import parse_stack
     from filmoptic.units import parse_range_nm
 
-    from filmoptic.ladder import colour_ladder, parse_tolerance
+    from filmoptic.describe.ladder import colour_ladder, parse_tolerance
 
     with user_errors():
         for path in (chart_path, ab_path):

@@ -4,7 +4,7 @@ The part is a metal half-space with one oxide layer on it, seen in reflection fr
 light that enters the metal is absorbed there, so such a part has no transmitted colour and none
 is ever reported. Forward (thickness → colour) runs every thickness in one vectorised engine call
 through :func:`filmoptic.colorimetry.colour_sweep`; backward (colour → thicknesses) lists every
-interference order whose colour comes close, through :func:`filmoptic.solve.solve_thickness`.
+interference order whose colour comes close, through :func:`filmoptic.inverse.solve.solve_thickness`.
 
 Examples
 --------
@@ -193,7 +193,7 @@ def colour_matches(stack_text: str, lab, *, range_nm, tolerance=None, illuminant
     """
     from filmoptic.colorimetry import colour_of, default_wavelengths
     from filmoptic.engine import compute
-    from filmoptic.solve import ColourTarget, solve_thickness
+    from filmoptic.inverse.solve import ColourTarget, solve_thickness
 
     stack = _parsed(stack_text, what)
     target = ColourTarget(tuple(float(v) for v in lab), "reflected", "front",

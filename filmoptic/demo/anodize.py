@@ -19,7 +19,7 @@ def run(outdir: pathlib.Path, say) -> None:
     from filmoptic.demo import scenario as sc
     from filmoptic.plots import save_figure
     from filmoptic.plots.tiles import tile_sheet
-    from filmoptic.solve import lab_from_hex
+    from filmoptic.inverse.solve import lab_from_hex
     from filmoptic.units import inclusive_grid
 
     outdir = pathlib.Path(outdir)

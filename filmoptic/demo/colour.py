@@ -24,7 +24,7 @@ def _grid(range_nm):
 def _colour_chart(stack: str, range_nm, name: str, outdir: pathlib.Path, say) -> None:
     import numpy as np
 
-    from filmoptic.ladder import colour_ladder
+    from filmoptic.describe.ladder import colour_ladder
     from filmoptic.plots import save_figure
     from filmoptic.plots.chart import ladder_chart, thickness_ticks
 
@@ -57,7 +57,7 @@ def run(outdir: pathlib.Path, say) -> None:
     from filmoptic.demo import scenario as sc
     from filmoptic.plots import save_figure
     from filmoptic.plots.swatch import swatch_figure
-    from filmoptic.solve import Target, solve_thickness
+    from filmoptic.inverse.solve import Target, solve_thickness
 
     outdir = pathlib.Path(outdir)
 

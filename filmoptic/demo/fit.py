@@ -36,8 +36,8 @@ def run(outdir: pathlib.Path, say) -> None:
     from filmoptic.files import write_atomically
     from filmoptic.demo import scenario as sc
     from filmoptic.engine import compute
-    from filmoptic.fit import fit_spectra, format_report
-    from filmoptic.measured import read_spectrum
+    from filmoptic.inverse.fit import fit_spectra, format_report
+    from filmoptic.inverse.measured import read_spectrum
     from filmoptic.plots import save_figure
     from filmoptic.plots.fit import plot_fit
     from filmoptic.units import parse_wavelengths_nm

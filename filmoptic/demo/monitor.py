@@ -1,7 +1,7 @@
 """Demo part "monitor": a replayed run of the cabinet semi-mirror, stopped by the light signal.
 
 The run is synthetic: :func:`synthetic_run` makes it from the forward model (the band-weighted
-transmittance of :mod:`filmoptic.readings`, evaluated by :func:`filmoptic.solve.evaluate_condition`)
+transmittance of :mod:`filmoptic.inverse.readings`, evaluated by :func:`filmoptic.inverse.solve.evaluate_condition`)
 with the invented imperfections of :mod:`filmoptic.demo.scenario` — noise, a drifting LED watched
 by a reference photodiode, a spark and a dropout.
 """
@@ -43,7 +43,7 @@ def synthetic_run(stack, source, detector, *, rate_nm_per_s, shutter_opens_s, in
     >>> r.thickness_nm.tolist()
     [0.0, 0.0, 0.0, 0.5, 1.0, 1.5]
     """
-    from filmoptic.solve import Reading, evaluate_condition
+    from filmoptic.inverse.solve import Reading, evaluate_condition
     from filmoptic.stack import parse_stack
 
     rng = np.random.default_rng(seed)
@@ -105,7 +105,7 @@ def run(outdir: pathlib.Path, say) -> None:
     from filmoptic.monitor.session import Monitor, prepare
     from filmoptic.plots import save_figure
     from filmoptic.plots.monitor import plot_plan, plot_run
-    from filmoptic.solve import Target
+    from filmoptic.inverse.solve import Target
 
     outdir = pathlib.Path(outdir)
     plan = prepare(sc.MONITOR_STACK, source=sc.MONITOR_SOURCE, detector=sc.MONITOR_DETECTOR,

@@ -27,11 +27,11 @@ def _cell(value, fmt) -> str:
 def run(outdir: pathlib.Path, say) -> None:
     """Run the thickness part of the demo, writing its tables and a plot into ``outdir``."""
 
-    from filmoptic.choose import compare_materials
+    from filmoptic.inverse.choose import compare_materials
     from filmoptic.demo import scenario as sc
-    from filmoptic.rate import fit_rate, parse_run
-    from filmoptic.readings import parse_reading
-    from filmoptic.solve import Reading, Target, solve_thickness
+    from filmoptic.inverse.rate import fit_rate, parse_run
+    from filmoptic.inverse.readings import parse_reading
+    from filmoptic.inverse.solve import Reading, Target, solve_thickness
 
     outdir = pathlib.Path(outdir)
 

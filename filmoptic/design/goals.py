@@ -456,7 +456,7 @@ def _number(text: str, what: str, goal: str) -> float:
 
 
 def _colour_value(text: str, form: str, illuminant: str, goal: str) -> tuple:
-    from filmoptic.solve import lab_from_hex, parse_lab
+    from filmoptic.inverse.solve import lab_from_hex, parse_lab
 
     try:
         if form == "hex":

@@ -225,7 +225,7 @@ def same_material(a, b) -> bool:
 def default_high_nm(material) -> float:
     """Largest thickness of a ``?`` layer: the solver's default range (100 nm for a metal,
     500 nm otherwise)."""
-    from filmoptic.solve import default_range_nm
+    from filmoptic.inverse.solve import default_range_nm
 
     return float(default_range_nm(material)[1])
 

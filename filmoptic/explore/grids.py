@@ -149,7 +149,7 @@ def _free_thicknesses(stack):
 
 
 def _ranges(stack, params, ranges_nm):
-    from filmoptic.solve import default_range_nm
+    from filmoptic.inverse.solve import default_range_nm
 
     if ranges_nm is not None and len(ranges_nm) != len(params):
         raise FilmopticError(f"give one range per free thickness ({len(params)}), got {len(ranges_nm)}")
@@ -249,11 +249,11 @@ def explore_grids(stack, *, step_nm: float | None = None, angles_deg=None, range
     """
     from filmoptic.colorimetry import (check_illuminant, check_observer, colour_of, default_wavelengths,
                                        luminous)
-    from filmoptic.colour_words import colour_words
+    from filmoptic.describe.colour_words import colour_words
     from filmoptic.engine import compute
     from filmoptic.stack import parse_stack
     from filmoptic.units import inclusive_grid
-    from filmoptic.views import view_names
+    from filmoptic.describe.views import view_names
 
     if isinstance(stack, str):
         stack = parse_stack(stack, ambient=ambient or "air")

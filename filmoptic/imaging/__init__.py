@@ -12,7 +12,7 @@ Modules, in the order data flows through them:
     saturated and dark pixels), computed in row bands so memory stays bounded.
 ``transmission``
     Luminance ratios to a bare-glass region or a flat-field photo, inverted for every cell at
-    once through :func:`filmoptic.solve.solve_batch`.
+    once through :func:`filmoptic.inverse.solve.solve_batch`.
 ``colour_map``
     CIELAB of every cell matched to the computed colours of the film, interference order chosen
     for spatial continuity.

@@ -20,7 +20,7 @@ def search_range_nm(stack, range_nm=None) -> tuple:
     import math
 
     from ..colorimetry import sweep_bounds_nm
-    from ..solve import default_range_nm
+    from ..inverse.solve import default_range_nm
 
     if len(stack.parameters) != 1 or len(stack.thickness_parameters) != 1:
         raise FilmopticError(

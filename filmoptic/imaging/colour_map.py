@@ -31,7 +31,7 @@ Method
    then let every cell reconsider against the median of all its neighbours. Cells cut off from
    every seed get a seed of their own.
 5. The chosen candidate is refined by golden-section search on ΔE00 between its grid neighbours
-   (:func:`filmoptic.roots.refine_minima`); the cell's ΔE00 there is its confidence. The interval
+   (:func:`filmoptic.numerics.roots.refine_minima`); the cell's ΔE00 there is its confidence. The interval
    is the connected set of thicknesses within ΔE00 + max(the cell's colour noise,
    :data:`INTERVAL_FLOOR_DE00`) of that match.
 
@@ -282,7 +282,7 @@ def colour_cells(stack, photo, grid, *, flat=None, dark=None, mask=None, white=N
         Grid step of the computed colours before refinement.
     """
     from ..colorimetry import check_illuminant, check_observer
-    from ..roots import interval_around, refine_minima
+    from ..numerics.roots import interval_around, refine_minima
     from ..stack import parse_stack
 
     if not photo.is_colour:

@@ -6,7 +6,7 @@ colorimetric camera would record:
 Transmission (:func:`render_transmission`)
     A coated glass on a light box. Each pixel's luminance is the part's band transmittance under
     the light box's illuminant seen by a photopic detector, relative to the open light box (the
-    reading model of :class:`filmoptic.solve.Reading`); its chromaticity is that of the
+    reading model of :class:`filmoptic.inverse.solve.Reading`); its chromaticity is that of the
     transmitted colour (CIE 15:2018 through :mod:`filmoptic.colorimetry`). The open light box is
     white at ``exposure``; the flat-field photo is the same scene without the part.
 Reflection (:func:`render_reflection`)
@@ -122,7 +122,7 @@ def render_transmission(stack, thickness_nm, *, illuminant="D65", exposure=0.85,
     [1.0, 0.894, 0.266]
     """
     from ..colorimetry import colour_sweep, default_wavelengths
-    from ..solve import Reading, evaluate_condition
+    from ..inverse.solve import Reading, evaluate_condition
 
     field = np.asarray(thickness_nm, dtype=float)
     if field.ndim != 2:

@@ -5,8 +5,8 @@ reference: a flat-field photo of the empty light box taken with the same setting
 removes the lens's vignetting and the box's unevenness), and/or the mean of a rectangle of bare
 glass in the same photo. The cell means are then luminous transmittances relative to the open
 light box or to the bare glass — exactly what a lux meter with a photopic detector would read in
-their place — and every cell is inverted at once by :func:`filmoptic.solve.solve_batch` with the
-reading model of :class:`filmoptic.solve.Reading` (light box spectrum = ``illuminant``,
+their place — and every cell is inverted at once by :func:`filmoptic.inverse.solve.solve_batch` with the
+reading model of :class:`filmoptic.inverse.solve.Reading` (light box spectrum = ``illuminant``,
 detector = V(λ), reference = ``open`` or ``bare``).
 
 The camera's relative luminance from the sRGB primaries stands in for the photopic detector; a
@@ -100,11 +100,11 @@ def transmission_cells(stack, photo, grid, *, bare=None, flat=None, dark=None, m
     known : ((x0, y0, x1, y1), thickness_nm), optional
         A region of known thickness: calibrates a gain.
     range_nm, angle_deg, ambient, extrapolate
-        As for :func:`filmoptic.solve.solve_batch`.
+        As for :func:`filmoptic.inverse.solve.solve_batch`.
     progress : callable, optional
         Called with the number of photo rows done.
     """
-    from ..solve import Reading, evaluate_condition
+    from ..inverse.solve import Reading, evaluate_condition
     from ..stack import parse_stack
 
     if bare is None and flat is None:
@@ -212,7 +212,7 @@ def transmission_cells(stack, photo, grid, *, bare=None, flat=None, dark=None, m
 
 
 def _solve(stack, template, values, u, options):
-    from ..solve import solve_batch
+    from ..inverse.solve import solve_batch
 
     relative = np.divide(u, values, out=np.zeros_like(u), where=values > 0)
     return solve_batch(stack, template, values, uncertainty=relative, relative_uncertainty=True, **options)

@@ -92,7 +92,7 @@ class TabulatedMaterial(Material):
     def interpolants(self):
         """The (n, k) PCHIP interpolants, built on first use."""
         if self._interpolants is None:
-            from filmoptic.interpolate import Pchip
+            from filmoptic.numerics.interpolate import Pchip
 
             self._interpolants = (Pchip(self.wavelength, self.n), Pchip(self.wavelength, self.k))
         return self._interpolants

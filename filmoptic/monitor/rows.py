@@ -1,6 +1,6 @@
 """Rows of a live monitor stream: a reading, or a time and a reading (and a reference detector).
 
-Lines are split as the measured-spectrum reader splits them (:func:`filmoptic.measured.split_row`:
+Lines are split as the measured-spectrum reader splits them (:func:`filmoptic.inverse.measured.split_row`:
 commas, semicolons, tabs or spaces; a decimal comma in semicolon- and tab-separated rows; ``#``
 comments and blank lines skipped). A row holds
 
@@ -24,7 +24,7 @@ from dataclasses import dataclass
 from datetime import datetime
 
 from filmoptic.errors import FilmopticError
-from filmoptic.measured import cell_number, split_row
+from filmoptic.inverse.measured import cell_number, split_row
 
 __all__ = ["Row", "RowReader", "parse_time_s"]
 

@@ -146,7 +146,7 @@ class Plan:
 
 def _solve_target(stack, conditions, solution, model_kwargs):
     from filmoptic.errors import TargetError
-    from filmoptic.solve import solve_thickness
+    from filmoptic.inverse.solve import solve_thickness
 
     result = solve_thickness(stack, conditions, companions=False, angle_deg=model_kwargs["angle_deg"],
                              extrapolate=model_kwargs["extrapolate"], ambient=model_kwargs["ambient"],
@@ -180,7 +180,7 @@ def prepare(stack, *, source: str = "D65", detector: str = "photopic", reference
     target_nm : float, optional
         Stop at this thickness.
     conditions : sequence of solve conditions, optional
-        Stop where :func:`filmoptic.solve.solve_thickness` meets them (``solution``: which of
+        Stop where :func:`filmoptic.inverse.solve.solve_thickness` meets them (``solution``: which of
         its thicknesses, thinnest first).
     stop_ratio : float, optional
         Stop where the monitor's ratio first reaches this value.

@@ -1,7 +1,7 @@
 """The modelled monitor signal against the thickness of the growing layer, and branch tracking.
 
 A light source and a photodiode looking through the part while the top layer grows read the
-band-weighted transmittance of the stack (:mod:`filmoptic.readings`), divided by what they read
+band-weighted transmittance of the stack (:mod:`filmoptic.inverse.readings`), divided by what they read
 before the layer started: the uncoated part (``"bare"``) or the open beam (``"open"``). That
 ratio is computed **once**, on a fine grid of the layer's thickness, in one call of the
 transfer-matrix engine with a batch of thicknesses (:func:`signal_model`); every reading is then
@@ -59,7 +59,7 @@ FLAT_FRACTION = 0.25
 #: How far the monitor models beyond the target, as a multiple of the target thickness (room for
 #: an overshoot, and for following the run past the target with --keep-going).
 RANGE_BEYOND_TARGET = 1.6
-#: References a monitor signal can be divided by (see :func:`filmoptic.readings.reference_level`).
+#: References a monitor signal can be divided by (see :func:`filmoptic.inverse.readings.reference_level`).
 REFERENCE_KINDS = ("bare", "open")
 
 
@@ -129,7 +129,7 @@ class SignalModel:
     stack, layer, source, detector, reference_kind : str
         What was modelled (the stack as written, the growing layer as written).
     wavelength_nm, weights : numpy.ndarray
-        The reading's band (:func:`filmoptic.readings.band_weights`).
+        The reading's band (:func:`filmoptic.inverse.readings.band_weights`).
     step_nm : float
         Grid step.
     flat_zones_nm : numpy.ndarray
@@ -298,7 +298,7 @@ def flat_zones(thickness_nm, ratio, bounds, fraction: float = FLAT_FRACTION) -> 
 
 
 def _model_range(stack, layer, range_nm, target_nm):
-    from filmoptic.solve import default_range_nm
+    from filmoptic.inverse.solve import default_range_nm
 
     if range_nm is not None:
         lo, hi = float(range_nm[0]), float(range_nm[1])
@@ -325,7 +325,7 @@ def signal_model(stack, source: str = "D65", detector: str = "photopic", referen
         The part with one unknown thickness ``?``: the layer being deposited (any layers under
         it, any substrate).
     source, detector : str
-        As in :func:`filmoptic.readings.band_weights` (``led:530/30``, ``laser:633``, ``A``, …;
+        As in :func:`filmoptic.inverse.readings.band_weights` (``led:530/30``, ``laser:633``, ``A``, …;
         ``flat``, ``photopic`` or a response file).
     reference : {"bare", "open"}
         What the reference reading saw: the uncoated part (the signal before the shutter
@@ -335,7 +335,7 @@ def signal_model(stack, source: str = "D65", detector: str = "photopic", referen
         :data:`RANGE_BEYOND_TARGET` times ``target_nm``.
     step_nm : float, optional
         Grid step; default the smaller of :data:`MODEL_STEP_NM` and a quarter of
-        :func:`filmoptic.solve.grid_step_nm`.
+        :func:`filmoptic.inverse.solve.grid_step_nm`.
     min_turning_points : int
         Extend the range (doubling it) until it holds at least this many turning points.
 
@@ -358,8 +358,8 @@ def signal_model(stack, source: str = "D65", detector: str = "photopic", referen
     True
     """
     from filmoptic.engine import compute
-    from filmoptic.readings import band_weights, covered_range_nm, reference_level
-    from filmoptic.solve import _free_layer, _max_index, grid_step_nm
+    from filmoptic.inverse.readings import band_weights, covered_range_nm, reference_level
+    from filmoptic.inverse.solve import _free_layer, _max_index, grid_step_nm
     from filmoptic.stack import parse_stack
 
     if reference not in REFERENCE_KINDS:

@@ -75,11 +75,11 @@ def _light_box(ax, x, y, w, h, colour):
 
 
 def ladder_chart(ladder, *, title: str | None = None, paper: str = "a4"):
-    """Draw a :class:`~filmoptic.ladder.ColourLadder` as a printable page.
+    """Draw a :class:`~filmoptic.describe.ladder.ColourLadder` as a printable page.
 
     Parameters
     ----------
-    ladder : filmoptic.ladder.ColourLadder
+    ladder : filmoptic.describe.ladder.ColourLadder
     title : str, optional
         Heading; by default names the stack.
     paper : str
@@ -92,7 +92,7 @@ def ladder_chart(ladder, *, title: str | None = None, paper: str = "a4"):
 
     Examples
     --------
-    >>> from filmoptic.ladder import colour_ladder
+    >>> from filmoptic.describe.ladder import colour_ladder
     >>> ladder = colour_ladder("TiO2 ? / Ti", np.arange(0.0, 101.0, 1.0))
     >>> fig = ladder_chart(ladder)
     >>> [round(float(v) * 25.4) for v in fig.get_size_inches()]
@@ -310,7 +310,7 @@ def ab_chart(ladder, *, title: str | None = None):
 
     Parameters
     ----------
-    ladder : filmoptic.ladder.ColourLadder
+    ladder : filmoptic.describe.ladder.ColourLadder
     title : str, optional
 
     Returns
@@ -319,7 +319,7 @@ def ab_chart(ladder, *, title: str | None = None):
 
     Examples
     --------
-    >>> from filmoptic.ladder import colour_ladder
+    >>> from filmoptic.describe.ladder import colour_ladder
     >>> fig = ab_chart(colour_ladder("TiO2 ? / Ti", np.arange(0.0, 101.0, 1.0)))
     >>> fig.axes[0].get_xlabel()
     'a* (CIELAB, green − / red +)'

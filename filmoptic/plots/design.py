@@ -27,7 +27,7 @@ def _plot_range(goals):
 
 def _grid(stack, goals, extrapolate):
     """The plot's wavelengths: the goals' span with a margin, trimmed to what the tables cover."""
-    from filmoptic.readings import covered_range_nm
+    from filmoptic.inverse.readings import covered_range_nm
 
     lo, hi, goal_lo, goal_hi = _plot_range(goals)
     covered = covered_range_nm(stack, extrapolate)

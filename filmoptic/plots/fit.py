@@ -3,7 +3,7 @@
 The upper axis names what is shown (transmittance, reflectance or both); the lower one shows
 measured − fitted in percentage points, with a legend that says what the points and the grey band
 are (the band is ±σ per point: from the files, from the given σ, or estimated from the residuals).
-The title starts with the verdict of :func:`filmoptic.fit.fit_verdict`.
+The title starts with the verdict of :func:`filmoptic.inverse.fit.fit_verdict`.
 """
 
 from __future__ import annotations
@@ -31,7 +31,7 @@ def plot_fit(result, title: str | None = None):
 
     Parameters
     ----------
-    result : filmoptic.fit.FitResult
+    result : filmoptic.inverse.fit.FitResult
     title : str, optional
         Defaults to the verdict and the fitted values.
 
@@ -42,15 +42,15 @@ def plot_fit(result, title: str | None = None):
     Examples
     --------
     >>> from filmoptic.engine import compute
-    >>> from filmoptic.fit import fit_spectra
-    >>> from filmoptic.measured import MeasuredSpectrum
+    >>> from filmoptic.inverse.fit import fit_spectra
+    >>> from filmoptic.inverse.measured import MeasuredSpectrum
     >>> wl = np.arange(400.0, 901.0, 10.0)
     >>> data = MeasuredSpectrum(wl, compute("n=2.2 300nm / n=1.5 1mm", wl).T + 0.001 * np.sin(wl), "T")
     >>> fig = plot_fit(fit_spectra("n=2.2 100..500nm / n=1.5 1mm", data))
     >>> [ax.get_ylabel() for ax in fig.axes]
     ['transmittance T (%)', 'measured − fitted\\n(percentage points)']
     """
-    from filmoptic.fit import fit_verdict
+    from filmoptic.inverse.fit import fit_verdict
 
     fig, (top, bottom) = new_figure(
         2, 1, figsize=(7.5, 6.6), sharex=True, gridspec_kw={"height_ratios": [3, 1.4]}

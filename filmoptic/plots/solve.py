@@ -14,7 +14,7 @@ PLOT_POINTS = 801
 
 
 def plot_solve(result, *, angle_deg: float = 0.0, extrapolate: bool = False, ambient="air", title: str | None = None):
-    """One panel per condition of a :class:`~filmoptic.solve.SolveResult`.
+    """One panel per condition of a :class:`~filmoptic.inverse.solve.SolveResult`.
 
     A scalar condition (a target or a reading) is drawn in percent against the thickness, with a
     line at its value and a band of ± its uncertainty; a colour condition as ΔE00 from the target,
@@ -22,7 +22,7 @@ def plot_solve(result, *, angle_deg: float = 0.0, extrapolate: bool = False, amb
 
     Parameters
     ----------
-    result : filmoptic.solve.SolveResult
+    result : filmoptic.inverse.solve.SolveResult
         A solve that met its conditions.
     angle_deg, extrapolate, ambient
         As given to the solve (the curve is the same forward model).
@@ -35,7 +35,7 @@ def plot_solve(result, *, angle_deg: float = 0.0, extrapolate: bool = False, amb
 
     Examples
     --------
-    >>> from filmoptic.solve import Target, solve_thickness
+    >>> from filmoptic.inverse.solve import Target, solve_thickness
     >>> result = solve_thickness("n=2 ? / n=1.5", [Target("R", 0.2, wavelength_nm=550.0)],
     ...                          range_nm=(0, 200), ambient="n=1")
     >>> fig = plot_solve(result, ambient="n=1")
@@ -43,7 +43,7 @@ def plot_solve(result, *, angle_deg: float = 0.0, extrapolate: bool = False, amb
     (1, 'n=2 thickness (nm)')
     """
     from filmoptic.colorimetry import delta_e00
-    from filmoptic.solve import evaluate_condition
+    from filmoptic.inverse.solve import evaluate_condition
 
     conditions = result.conditions
     lo, hi = result.range_nm

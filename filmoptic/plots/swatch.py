@@ -84,7 +84,7 @@ def swatch_figure(result, *, stack_text: str, ambient: str = "air", angle_deg: f
     paper : str
         ``"a4"`` or ``"letter"``.
     back_side : str
-        What the reversed view is called (:func:`filmoptic.views.back_side`).
+        What the reversed view is called (:func:`filmoptic.describe.views.back_side`).
 
     Returns
     -------
@@ -98,7 +98,7 @@ def swatch_figure(result, *, stack_text: str, ambient: str = "air", angle_deg: f
     >>> [round(float(v) * 25.4) for v in fig.get_size_inches()]
     [210, 297]
     """
-    from filmoptic.colour_words import colour_word
+    from filmoptic.describe.colour_words import colour_word
 
     names = {"reflected": "Film side", "reflected_reverse": back_side.capitalize(), "transmitted": "Through"}
     views = _views(result, names)

@@ -27,7 +27,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .errors import FilmopticError
+from ..errors import FilmopticError
 
 __all__ = ["halton", "radical_inverse", "PRIMES"]
 

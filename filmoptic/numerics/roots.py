@@ -9,7 +9,7 @@ vectorised forward model (the transfer-matrix engine): a hundred roots cost the 
 engine calls as one.
 
 The grid must be fine enough that no root or minimum hides between two points; choosing it is the
-caller's business (:func:`filmoptic.solve.grid_step_nm` for thin films). Roots that only touch zero,
+caller's business (:func:`filmoptic.inverse.solve.grid_step_nm` for thin films). Roots that only touch zero,
 or two roots within one grid step, are recovered by :func:`touching_roots`.
 
 Method

@@ -53,8 +53,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import FilmopticError
-from .units import parse_fraction, parse_meter_value, parse_number
+from ..errors import FilmopticError
+from ..units import parse_fraction, parse_meter_value, parse_number
 
 __all__ = [
     "BAND_STEP_NM",
@@ -325,7 +325,7 @@ def detector_response(detector: str):
     >>> float(response(np.array([555.0]))[0]), range_nm
     (1.0, (360.0, 830.0))
     """
-    from .colorimetry import photopic_efficiency, read_spectrum_file
+    from ..colorimetry import photopic_efficiency, read_spectrum_file
 
     det = str(detector).strip()
     name = DETECTOR_ALIASES.get(det.lower(), det.lower())
@@ -341,7 +341,7 @@ def detector_response(detector: str):
             f"silicon (a silicon photodiode) or the path of a two-column response file "
             f"(no file {det!r} found){_detector_hint(det)}"
         )
-    from .notes import note_file
+    from ..notes import note_file
 
     table = read_spectrum_file(os.path.expanduser(det), what="detector response file")
     note_file(det, table.how_read)
@@ -406,7 +406,7 @@ def band_weights(source: str, detector: str, material_range_nm=(0.0, math.inf)):
     >>> wl.tolist(), w.tolist()
     ([633.0], [1.0])
     """
-    from .colorimetry import illuminant_table, interval_widths
+    from ..colorimetry import illuminant_table, interval_widths
 
     src = str(source).strip()
     det = str(detector).strip()
@@ -516,7 +516,7 @@ def reference_level(stack, reference: str, wavelength_nm, weights, *, angle_deg=
         raise FilmopticError(f"--reference must be 'open' or 'bare', got {reference!r}")
     if reference == "open":
         return 1.0
-    from .engine import compute
+    from ..engine import compute
 
     bare_T = compute(stack.bare(), wavelength_nm, angle_deg=angle_deg, extrapolate=extrapolate).T
     level = float(np.asarray(bare_T) @ weights)

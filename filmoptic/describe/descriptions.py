@@ -29,7 +29,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import FilmopticError
+from ..errors import FilmopticError
 
 __all__ = ["LightTemperature", "Description", "MAX_DUV", "CCT_RANGE_K", "munsell_notation", "light_temperature",
            "light_chromaticity", "describe"]
@@ -92,7 +92,7 @@ class Description:
 
 
 def _quiet_colour():
-    from .colorimetry import _colour
+    from ..colorimetry import _colour
 
     return _colour()
 
@@ -118,7 +118,7 @@ def munsell_notation(wavelength_nm, reflectance, *, decimals: int = 1) -> str | 
     ----------
     Newhall, Nickerson & Judd, J. Opt. Soc. Am. 33, 385 (1943); ASTM D1535-14.
     """
-    from .colorimetry import spectrum_to_XYZ
+    from ..colorimetry import spectrum_to_XYZ
 
     values = np.asarray(reflectance, dtype=float)
     if values.ndim != 1:
@@ -142,8 +142,8 @@ def munsell_notation(wavelength_nm, reflectance, *, decimals: int = 1) -> str | 
 
 def light_chromaticity(wavelength_nm, illuminant="D65", transmittance=None) -> np.ndarray:
     """Chromaticity x, y (2° observer) of a light, or of the part of it a transmittance passes."""
-    from .cie.transforms import XYZ_to_xy
-    from .colorimetry import spectrum_to_XYZ, tristimulus_weights
+    from ..cie.transforms import XYZ_to_xy
+    from ..colorimetry import spectrum_to_XYZ, tristimulus_weights
 
     wl = np.asarray(wavelength_nm, dtype=float)
     if transmittance is None:
@@ -197,8 +197,8 @@ def describe(stack, *, illuminant="D65", angle_deg=0.0, ambient=None, wavelength
     -------
     Description
     """
-    from .colorimetry import _as_grid, _stack_from, check_illuminant, default_wavelengths
-    from .engine import compute
+    from ..colorimetry import _as_grid, _stack_from, check_illuminant, default_wavelengths
+    from ..engine import compute
 
     stack = _stack_from(stack, ambient)
     if stack.parameters:

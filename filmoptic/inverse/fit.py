@@ -11,9 +11,9 @@ volume fraction of a ``mix(…)``. The fit runs in three steps:
    (step λ_min / (8·|N|_max), four samples per fringe period) in one vectorised
    :func:`filmoptic.engine.compute` call per set of coefficient values; the coefficients
    themselves get a small grid (at most :data:`MAX_COEFFICIENT_SETS` sets); when the thickness
-   grid would exceed ``max_grid``, a Halton sample of the same box (:mod:`filmoptic.sampling`)
+   grid would exceed ``max_grid``, a Halton sample of the same box (:mod:`filmoptic.numerics.sampling`)
    takes its place. When the film is transparent on a thick transparent substrate and T is
-   measured at normal incidence, the envelope method (:func:`filmoptic.envelope.swanepoel`) adds its estimate as a start.
+   measured at normal incidence, the envelope method (:func:`filmoptic.inverse.envelope.swanepoel`) adds its estimate as a start.
 2. **Local refinement.** The best few distinct grid points (and the envelope start) are refined
    with bounded least squares (``scipy.optimize.least_squares``, trust-region reflective); the
    lowest χ² wins.
@@ -70,9 +70,9 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .errors import FilmopticError
+from ..errors import FilmopticError
 from .measured import MeasuredSpectrum
-from .params import is_free
+from ..params import is_free
 
 __all__ = [
     "FitParameter",
@@ -332,7 +332,7 @@ class _Problem:
         return np.concatenate(parts, axis=-1)
 
     def model(self, values) -> np.ndarray:
-        from .engine import compute
+        from ..engine import compute
 
         bound = self.stack.bind(values)
         spectrum = compute(bound, self.wavelength_nm, angle_deg=self.angle_deg,
@@ -355,7 +355,7 @@ class _Problem:
 
     def grid_chi2(self, values, thickness_grid) -> np.ndarray:
         """χ² (weighted) for every row of ``thickness_grid`` with the coefficients of ``values``."""
-        from .engine import compute
+        from ..engine import compute
 
         stack = self.coefficient_stack(values)
         spectrum = compute(stack, self.wavelength_nm, angle_deg=self.angle_deg,
@@ -403,7 +403,7 @@ def _thickness_grid(lo, hi, steps, budget, seed=0):
         axes = [np.clip(ax, a, b) for ax, a, b in zip(axes, lo, hi)]
         mesh = np.meshgrid(*axes, indexing="ij")
         return np.column_stack([m.ravel() for m in mesh]), size, True
-    from .sampling import halton
+    from ..numerics.sampling import halton
 
     m = max(int(math.floor(math.log2(max(budget, 2)))), 1)
     sample = halton(2**m, len(lo), seed=seed)
@@ -529,7 +529,7 @@ def fit_spectra(model, measured, *, angle_deg: float = 0.0, polarization: str = 
     model : str or filmoptic.stack.Stack
         Stack with unknowns, e.g. ``"cauchy(?,?,0) 150..500nm / glass 1mm"``.
     measured : MeasuredSpectrum or sequence of MeasuredSpectrum
-        T and/or R curves (:func:`filmoptic.measured.read_spectrum`); all are fitted together.
+        T and/or R curves (:func:`filmoptic.inverse.measured.read_spectrum`); all are fitted together.
     angle_deg : float, optional
         Angle of incidence of the measurement, degrees.
     polarization : {"unpolarized", "s", "p"}, optional
@@ -577,7 +577,7 @@ def fit_spectra(model, measured, *, angle_deg: float = 0.0, polarization: str = 
     >>> round(r.parameters[0].value, 2)
     250.0
     """
-    from .stack import parse_stack
+    from ..stack import parse_stack
 
     stack = parse_stack(model, ambient) if isinstance(model, str) else model
     spectra = _checked_spectra(measured, wavelength_range_nm)
@@ -668,7 +668,7 @@ def _checked_spectra(measured, wavelength_range_nm) -> list:
 
 def _evaluation_work(problem) -> tuple[int, int]:
     """(wavelengths, interfaces) of one model evaluation: its work is their product."""
-    from .engine import interface_count
+    from ..engine import interface_count
 
     return problem.wavelength_nm.size, interface_count(problem.stack)
 
@@ -676,7 +676,7 @@ def _evaluation_work(problem) -> tuple[int, int]:
 def _check_refinement_work(problem, starts: int, max_nfev: int) -> None:
     """Refuse at once a refinement that could run past the work limit: each start takes at most
     ``max_nfev`` steps of one evaluation plus one per parameter for the Jacobian."""
-    from .engine import check_work
+    from ..engine import check_work
 
     W, interfaces = _evaluation_work(problem)
     evaluations = (starts + 1) * max_nfev * (len(problem.stack.parameters) + 1)
@@ -689,8 +689,8 @@ def _check_refinement_work(problem, starts: int, max_nfev: int) -> None:
 def _search_budget(problem, max_grid: int, sets: int) -> tuple[int, str]:
     """Thickness sets per coefficient set for the global search, within ``max_grid`` and the work
     limit (a note says when the limit made the search coarser)."""
-    from .engine import check_work
-    from .limits import WORK
+    from ..engine import check_work
+    from ..limits import WORK
 
     W, interfaces = _evaluation_work(problem)
     check_work(sets * 8 * W, interfaces,
@@ -909,7 +909,7 @@ def fit_verdict(result: FitResult) -> FitVerdict:
 
     Examples
     --------
-    >>> from filmoptic.measured import MeasuredSpectrum
+    >>> from filmoptic.inverse.measured import MeasuredSpectrum
     >>> from filmoptic.engine import compute
     >>> wl = np.arange(400.0, 901.0, 5.0)
     >>> T = compute("n=2.2 300nm / n=1.5 1mm", wl, angle_deg=0.0).T
@@ -969,7 +969,7 @@ def format_report(result: FitResult, spectra=()) -> str:
     """The fit as a readable text report (what ``filmoptic fit`` prints).
 
     It starts with the verdict (:func:`fit_verdict`); each section after it is headed by the
-    question it answers. ``spectra`` (the :class:`~filmoptic.measured.MeasuredSpectrum` objects
+    question it answers. ``spectra`` (the :class:`~filmoptic.inverse.measured.MeasuredSpectrum` objects
     that were fitted) adds their file names and reading notes.
     """
     verdict = fit_verdict(result)

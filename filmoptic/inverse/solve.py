@@ -8,7 +8,7 @@ Conditions
 ----------
 :class:`Target` (a luminous value, or T or R at one wavelength), :class:`ColourTarget` (CIELAB,
 nearest by ΔE00) and :class:`Reading` (a band-weighted transmittance reading; its model of sources,
-detectors and references is :mod:`filmoptic.readings`). Each is bound to the stack by its
+detectors and references is :mod:`filmoptic.inverse.readings`). Each is bound to the stack by its
 ``prepare`` method, which gives the forward model: the quantity at any array of thicknesses, in one
 engine call.
 
@@ -35,14 +35,14 @@ Method
    Press et al., *Numerical Recipes*, 3rd ed., §15.6).
 
 The grid machinery of steps 2–4 (brackets, root and minimum refinement, intervals) is generic and
-lives in :mod:`filmoptic.roots`.
+lives in :mod:`filmoptic.numerics.roots`.
 
 References
 ----------
 H. A. Macleod, *Thin-Film Optical Filters*, 4th ed., CRC Press (2010), ch. 2 (characteristic
 matrices) and ch. 3 (periodicity of a single layer's response, n·d = m·λ/4 extrema).
 The Illinois method (Dowell & Jarratt 1971) and golden-section search (Kiefer 1953): see
-:mod:`filmoptic.roots` for the full citations.
+:mod:`filmoptic.numerics.roots` for the full citations.
 ISO 9050:2003 (luminous transmittance and reflectance); CIE 15:2018 (colour); ISO/CIE 11664-6
 (ΔE00).
 """
@@ -56,9 +56,9 @@ from typing import Callable
 
 import numpy as np
 
-from .errors import FilmopticError
+from ..errors import FilmopticError
 from .readings import REFERENCES, band_weights, covered_range_nm, reference_level
-from .roots import (
+from ..numerics.roots import (
     find_minima,
     find_roots,
     first_brackets,
@@ -67,7 +67,7 @@ from .roots import (
     touching_roots,
     unique_points,
 )
-from .units import parse_number, parse_uncertainty_spec
+from ..units import parse_number, parse_uncertainty_spec
 
 __all__ = [
     "ROOT_TOLERANCE",
@@ -116,15 +116,15 @@ _QUANTITIES = {
 
 
 def _visible():
-    from .colorimetry import default_wavelengths
+    from ..colorimetry import default_wavelengths
 
     return default_wavelengths()
 
 
 def _lab(wl, values, illuminant="D65", observer=2) -> np.ndarray:
     """CIELAB of spectra (..., W), without the sRGB/gamut work of colour_of (not needed here)."""
-    from .cie.transforms import XYZ_to_Lab
-    from .colorimetry import _white_xy, spectrum_to_XYZ
+    from ..cie.transforms import XYZ_to_Lab
+    from ..colorimetry import _white_xy, spectrum_to_XYZ
 
     XYZ = spectrum_to_XYZ(wl, values, illuminant, observer)
     return XYZ_to_Lab(XYZ / 100.0, _white_xy(wl, illuminant, observer))
@@ -195,7 +195,7 @@ class Target(_ScalarCondition):
         return name
 
     def prepare(self, stack, angle_deg=0.0, extrapolate=False):
-        from .colorimetry import luminous
+        from ..colorimetry import luminous
 
         wl = _visible() if self.quantity.startswith("luminous") else np.array([float(self.wavelength_nm)])
         _check_light_path(stack, wl, extrapolate, self.label(), self.quantity.endswith("T"), self.side)
@@ -269,7 +269,7 @@ class Reading(_ScalarCondition):
     """A measured transmittance reading: a light source, a detector and a reference.
 
     The reading's model (band weighting, the bare-substrate reference) is
-    :mod:`filmoptic.readings`.
+    :mod:`filmoptic.inverse.readings`.
 
     Attributes
     ----------
@@ -344,7 +344,7 @@ class _Prepared:
     def residual(self, values) -> np.ndarray:
         """Signed (quantity − target) for scalars, ΔE00 (≥ 0) for colours."""
         if self.kind == "colour":
-            from .colorimetry import delta_e00
+            from ..colorimetry import delta_e00
 
             return np.asarray(delta_e00(values, np.asarray(self.condition.lab)), dtype=float)
         return values - self.condition.value
@@ -396,7 +396,7 @@ def _check_light_path(stack, wl, extrapolate, what, transmitted, side):
 
 
 def _spectra(stack, wl, t, angle_deg, reverse, extrapolate):
-    from .engine import compute
+    from ..engine import compute
 
     t = np.asarray(t, dtype=float)
     return compute(stack, wl, angle_deg=angle_deg, reverse=reverse, thickness_nm=t.reshape(-1, 1),
@@ -456,8 +456,8 @@ def lab_from_hex(text, illuminant="D65") -> tuple:
     >>> [round(v, 1) for v in lab_from_hex("#ffffff")] == [100.0, 0.0, 0.0]
     True
     """
-    from .cie.transforms import XYZ_to_Lab, srgb_decode, srgb_to_XYZ_matrix
-    from .colorimetry import _white_xy, default_wavelengths
+    from ..cie.transforms import XYZ_to_Lab, srgb_decode, srgb_to_XYZ_matrix
+    from ..colorimetry import _white_xy, default_wavelengths
 
     s = str(text).strip()
     if not re.fullmatch(r"#?[0-9a-fA-F]{6}", s):
@@ -604,7 +604,7 @@ class BatchResult:
 
 
 def _as_stack(stack, ambient="air"):
-    from .stack import parse_stack
+    from ..stack import parse_stack
 
     return parse_stack(stack, ambient=ambient) if isinstance(stack, str) else stack
 
@@ -662,7 +662,7 @@ def _max_index(material, wl, extrapolate) -> float:
 
 
 def _thickness_grid(lo, hi, step):
-    from .limits import GRID_POINTS
+    from ..limits import GRID_POINTS
 
     count = math.ceil((hi - lo) / step - 1e-9) + 1 if math.isfinite((hi - lo) / step) else math.inf
     GRID_POINTS.check(count, f"--range {lo:g}:{hi:g} nm at a step of {step:.3g} nm",
@@ -723,7 +723,7 @@ def _slopes(prepared, x, lo, hi):
         v, vl, vr = both[:k], both[k:2 * k], both[2 * k:]
         width = np.where(right > left, right - left, np.nan)
         if prep.kind == "colour":
-            from .colorimetry import delta_e00
+            from ..colorimetry import delta_e00
 
             slope = np.asarray(delta_e00(vl, vr), dtype=float) / width
         else:
@@ -734,7 +734,7 @@ def _slopes(prepared, x, lo, hi):
 
 
 def _companions(stack, x, angle_deg, extrapolate):
-    from .colorimetry import luminous
+    from ..colorimetry import luminous
 
     if x.size == 0:
         return []
@@ -1033,7 +1033,7 @@ def solve_batch(stack, condition, values, *, uncertainty=0.0, relative_uncertain
     a, b, fa, fb, ok, count = first_brackets(grid, q, values, chunk=chunk)
     # Roots of the cubic interpolant of the grid values first (cheap), then a Newton step on the
     # forward model and a verification with it (two engine calls for all rows together).
-    from .interpolate import CubicSpline
+    from ..numerics.interpolate import CubicSpline
 
     spline = CubicSpline(grid, q)
     dspline = spline.derivative()

@@ -4,7 +4,7 @@ A uniform, weakly absorbing film on a thick transparent substrate shows interfer
 transmittance. The curves through the maxima, T_M(λ), and through the minima, T_m(λ), give the
 film's refractive index at every extremum, and the extrema's order numbers give its thickness
 (Swanepoel 1983). In filmoptic the method serves as a quick first estimate that the least-squares
-fit then refines (:mod:`filmoptic.fit`), and on its own as a cross-check.
+fit then refines (:mod:`filmoptic.inverse.fit`), and on its own as a cross-check.
 
 The method assumes normal incidence, a film index above the substrate's (the usual case of an
 oxide, nitride or semiconductor on glass) and at least four clear extrema.
@@ -21,7 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import FilmopticError
+from ..errors import FilmopticError
 
 __all__ = ["EnvelopeResult", "swanepoel", "find_extrema", "peak_indices", "substrate_index_from_transmittance"]
 
@@ -199,7 +199,7 @@ def find_extrema(wavelength_nm, values, *, prominence: float | None = None):
 
 
 def _envelope_at(x_known, y_known, x):
-    from .interpolate import CubicSpline
+    from ..numerics.interpolate import CubicSpline
 
     if x_known.size >= 4:
         return CubicSpline(x_known, y_known)(x)

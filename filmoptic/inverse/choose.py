@@ -1,7 +1,7 @@
 """Compare candidate materials for the same target on the same substrate.
 
 For every candidate the single layer ``MATERIAL ? / SUBSTRATE`` is solved with
-:func:`filmoptic.solve.solve_thickness` (the same conditions, the same machinery), and the first
+:func:`filmoptic.inverse.solve.solve_thickness` (the same conditions, the same machinery), and the first
 solution — the thinnest that meets the target, or the best match for a colour — is summarised the
 way a buyer compares semi-mirrors: thickness needed, luminous reflectance from both sides,
 absorptance, how neutral the tint is (CIELAB chroma C*ab = √(a*² + b*²) in reflection and
@@ -9,7 +9,7 @@ transmission; 0 is perfectly grey) and how much a 1 nm thickness error moves the
 
 References
 ----------
-ISO 9050:2003 (luminous values); CIE 15:2018 §8.2.1 (CIELAB chroma); see :mod:`filmoptic.solve`.
+ISO 9050:2003 (luminous values); CIE 15:2018 §8.2.1 (CIELAB chroma); see :mod:`filmoptic.inverse.solve`.
 """
 
 from __future__ import annotations
@@ -18,7 +18,7 @@ import math
 import re
 from dataclasses import dataclass
 
-from .errors import FilmopticError
+from ..errors import FilmopticError
 
 __all__ = ["Candidate", "Comparison", "compare_materials"]
 
@@ -47,7 +47,7 @@ class Candidate:
         Number of solutions in the range.
     note : str
         Why there is no answer, or ``""``.
-    solution : filmoptic.solve.Solution or None
+    solution : filmoptic.inverse.solve.Solution or None
     absorptance_layers, absorptance_substrate : float or None
         The split of ``absorptance``: in the candidate's layer, and in the substrate.
     """
@@ -106,7 +106,7 @@ def _candidate_stack(material: str, substrate: str) -> str:
 def _check_candidate(material: str) -> None:
     """A candidate must be a material as written in stack notation, not a layer or a stack: compare
     supplies the unknown thickness and the substrate itself."""
-    from .materials import parse_material
+    from ..materials import parse_material
 
     if not material:
         raise FilmopticError("compare: a candidate material is empty")
@@ -141,7 +141,7 @@ def compare_materials(materials, substrate, conditions, *, range_nm=None, angle_
     substrate : str
         The substrate item, e.g. ``"glass 4mm"``.
     conditions : condition or sequence of conditions
-        As for :func:`filmoptic.solve.solve_thickness`.
+        As for :func:`filmoptic.inverse.solve.solve_thickness`.
     range_nm : (float, float), optional
         Thickness range; default per material kind (0–100 nm for a metal).
 
@@ -153,7 +153,7 @@ def compare_materials(materials, substrate, conditions, *, range_nm=None, angle_
 
     Examples
     --------
-    >>> from filmoptic.solve import Target
+    >>> from filmoptic.inverse.solve import Target
     >>> table = compare_materials(["Ti", "Cr"], "glass 4mm", Target("luminous_T", 0.3))
     >>> [round(c.thickness_nm, 1) for c in table.candidates]
     [8.8, 7.8]

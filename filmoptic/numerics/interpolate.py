@@ -50,7 +50,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .errors import FilmopticError
+from ..errors import FilmopticError
 
 __all__ = ["PiecewiseCubic", "Pchip", "CubicSpline", "pchip_slopes", "spline_slopes"]
 

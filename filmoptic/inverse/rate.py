@@ -46,9 +46,9 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import DataFileError, FilmopticError
-from .units import MAX_LENGTH_NM as MAX_THICKNESS_NM
-from .units import parse_duration_s, parse_length_nm, parse_number
+from ..errors import DataFileError, FilmopticError
+from ..units import MAX_LENGTH_NM as MAX_THICKNESS_NM
+from ..units import parse_duration_s, parse_length_nm, parse_number
 
 __all__ = [
     "Run",
@@ -173,7 +173,7 @@ def thickness_from_solve_file(path, index: int | None = None) -> tuple[float, fl
         The thickness and a standard uncertainty taken as half the reported interval
         (``(high_nm - low_nm) / 2``), or ``None`` when the interval is empty.
     """
-    from .files import read_json_input
+    from ..files import read_json_input
 
     path, index = _split_solve_reference(path, index)
     data = read_json_input(path, "solve file")

@@ -30,7 +30,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .errors import FilmopticError
+from ..errors import FilmopticError
 
 __all__ = ["colour_ladder", "ColourLadder", "Rung", "rung_positions", "MAX_RUNGS", "order_edges_nm",
            "ORDER_MAX_K_RATIO", "parse_tolerance"]
@@ -64,7 +64,7 @@ class Rung:
     transmitted : filmoptic.colorimetry.Colour or None
         The colour of light through the part at the aim (None when nothing comes through).
     word : str
-        A plain word for the film-side colour (:func:`filmoptic.colour_words.colour_word`).
+        A plain word for the film-side colour (:func:`filmoptic.describe.colour_words.colour_word`).
     order : int or None
         Interference order (None when orders are not meaningful, see the module notes).
     luminous_R, luminous_T : float
@@ -137,7 +137,7 @@ def parse_tolerance(text, what: str = "--tolerance") -> tuple:
     >>> parse_tolerance("5%"), parse_tolerance("2nm"), parse_tolerance("0.03")
     ((0.05, None), (None, 2.0), (0.03, None))
     """
-    from .units import parse_fraction, parse_length_nm
+    from ..units import parse_fraction, parse_length_nm
 
     text = str(text).strip()
     if text.endswith("%") or not text[-1:].isalpha():
@@ -181,7 +181,7 @@ def rung_positions(low: float, high: float, max_rungs: int = MAX_RUNGS) -> np.nd
 def _unbounded(stack):
     """The stack with its free thickness written '?': the tolerance neighbours of a rung at the
     end of a LOW..HIGH range, and the order count from 0, may lie outside that range."""
-    from .params import Free, is_free
+    from ..params import Free, is_free
 
     def open_up(layer):
         return replace(layer, thickness_nm=Free()) if is_free(layer.thickness_nm) else layer
@@ -262,9 +262,9 @@ def colour_ladder(stack, thickness_nm, *, tolerance: float = 0.05, tolerance_nm:
     >>> [r.order for r in ladder.rungs if r.thickness_nm in (130.0, 140.0)]
     [1, 2]
     """
-    from .colorimetry import colour_sweep, delta_e00, sweep_bounds_nm
+    from ..colorimetry import colour_sweep, delta_e00, sweep_bounds_nm
     from .colour_words import colour_words
-    from .stack import parse_stack
+    from ..stack import parse_stack
 
     if isinstance(stack, str):
         stack = parse_stack(stack, ambient=ambient or "air")

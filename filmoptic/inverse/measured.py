@@ -53,8 +53,8 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import DataFileError
-from .files import check_row_count, numeric_rows
+from ..errors import DataFileError
+from ..files import check_row_count, numeric_rows
 
 __all__ = ["MeasuredSpectrum", "read_spectrum", "QUANTITIES", "split_row", "cell_number"]
 
@@ -122,7 +122,7 @@ def _words(text: str) -> list[str]:
 
 
 def _read_lines(path: Path) -> list[str]:
-    from .files import guard_input
+    from ..files import guard_input
 
     guard_input(path, "measured spectrum")
     if not path.exists():
@@ -434,7 +434,7 @@ def read_spectrum(path, quantity: str | None = None) -> MeasuredSpectrum:
            + (f", lines {_line_list(bad)} dropped (not numbers, NaN or a wavelength <= 0)" if bad else "")
            + (f"; {wl.size - unique.size} repeated wavelength(s) averaged" if unique.size < wl.size else "")
            + ("; rows sorted by wavelength" if "rows sorted by wavelength" in notes else ""))
-    from .notes import note_file
+    from ..notes import note_file
 
     note_file(path, how)
     if unique.size < wl.size:
