@@ -208,14 +208,20 @@ def srgb_encode(linear) -> np.ndarray:
 def srgb_decode(encoded) -> np.ndarray:
     """Linear values of sRGB-encoded ones (IEC 61966-2-1), the inverse of :func:`srgb_encode`.
 
+    ``V / 12.92`` for V ≤ 0.04045 (the standard's break point, written as it writes it; it differs
+    from the encoding's image of 0.0031308 by 5e-8, which moves no decoded value by more than
+    2e-9), ``((V + 0.055) / 1.055) ** 2.4`` above.
+
     Examples
     --------
     >>> float(srgb_decode(srgb_encode(0.5)))
     0.5
+    >>> [round(float(v), 6) for v in srgb_decode([0.0, 0.04045, 0.5, 1.0])]
+    [0.0, 0.003131, 0.214041, 1.0]
     """
     V = np.asarray(encoded, dtype=float)
     x = (V + 0.055) / 1.055
-    return np.where(srgb_encode(0.0031308) >= V, V / 12.92, np.sign(x) * np.abs(x) ** 2.4)
+    return np.where(V <= 0.04045, V / 12.92, np.sign(x) * np.abs(x) ** 2.4)
 
 
 def delta_e00(Lab1, Lab2) -> np.ndarray:

@@ -56,6 +56,8 @@ from pathlib import Path
 
 import numpy as np
 
+from ..cie.transforms import srgb_decode  # noqa: F401 - part of this module's API (IEC 61966-2-1)
+from ..cie.transforms import srgb_encode as _srgb_encode
 from ..errors import FilmopticError
 from ..units import parse_length_nm, parse_number
 
@@ -140,30 +142,16 @@ LUMINANCE_WEIGHTS = SRGB_TO_XYZ[1].copy()
 LUMINANCE_WEIGHTS.setflags(write=False)
 
 
-def srgb_decode(encoded):
-    """Linear values from sRGB-encoded values in 0–1 (IEC 61966-2-1 transfer function).
-
-    ``V / 12.92`` up to 0.04045, ``((V + 0.055) / 1.055) ** 2.4`` above.
-
-    Examples
-    --------
-    >>> [round(float(v), 6) for v in srgb_decode(np.array([0.0, 0.04045, 0.5, 1.0]))]
-    [0.0, 0.003131, 0.214041, 1.0]
-    """
-    v = np.asarray(encoded, dtype=float)
-    return np.where(v <= 0.04045, v / 12.92, ((np.maximum(v, 0.04045) + 0.055) / 1.055) ** 2.4)
-
-
 def srgb_encode(linear):
-    """sRGB-encoded values in 0–1 from linear values in 0–1 (the inverse of :func:`srgb_decode`).
+    """sRGB-encoded values in 0–1 from linear values, clipped to 0–1 first (for pictures); the
+    transfer function is :func:`filmoptic.cie.transforms.srgb_encode`.
 
     Examples
     --------
     >>> round(float(srgb_encode(srgb_decode(0.5))), 12)
     0.5
     """
-    v = np.clip(np.asarray(linear, dtype=float), 0.0, 1.0)
-    return np.where(v <= 0.0031308, 12.92 * v, 1.055 * np.maximum(v, 0.0031308) ** (1.0 / 2.4) - 0.055)
+    return _srgb_encode(np.clip(np.asarray(linear, dtype=float), 0.0, 1.0))
 
 
 @lru_cache(maxsize=8)
