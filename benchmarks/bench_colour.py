@@ -25,6 +25,8 @@ import time
 
 import numpy as np
 
+from timing import time_calls
+
 STACK = "TiO2 ? / SiO2 90nm / TiO2 45nm / SiO2 110nm / TiO2 25nm / glass"
 THICKNESS_NM = np.linspace(0.0, 250.0, 1001)
 OBSERVER = "CIE 1931 2 Degree Standard Observer"
@@ -85,12 +87,8 @@ def main():
     from filmoptic.colorimetry import delta_e00
 
     filmoptic_sweep()  # warm up: imports, tables, weighting cache
-    times = []
-    for _ in range(3):
-        t0 = time.perf_counter()
-        result = filmoptic_sweep()
-        times.append(time.perf_counter() - t0)
-    ours = min(times)
+    sweeps = time_calls(filmoptic_sweep, 3)
+    ours, result = sweeps.best, sweeps.result
 
     setup = reference_setup()
     picked = np.arange(0, THICKNESS_NM.size, max(args.every, 1))

@@ -34,14 +34,7 @@ import time
 
 import numpy as np
 
-
-def best_time(function, repeats: int) -> float:
-    best = float("inf")
-    for _ in range(repeats):
-        start = time.perf_counter()
-        function()
-        best = min(best, time.perf_counter() - start)
-    return best
+from timing import best_of
 
 
 def library_indices(names, wavelengths):
@@ -72,7 +65,7 @@ def case(label, stack_text, materials, thicknesses, wavelengths, angle_deg, tmm_
                        polarization=pol)
 
     engine_s, engine_p = run_engine("s"), run_engine("p")
-    t_engine = best_time(lambda: run_engine("unpolarized"), repeats)
+    t_engine = best_of(lambda: run_engine("unpolarized"), repeats)
 
     # tmm: a random subset of the (set, wavelength, polarisation) calls, timed and scaled.
     theta = np.deg2rad(angle_deg)
@@ -121,7 +114,7 @@ def case(label, stack_text, materials, thicknesses, wavelengths, angle_deg, tmm_
             out = run_colour()
             R_c = np.stack([r[:, 0, 0, :] for r, _ in out])   # (sets, W, 2)
             T_c = np.stack([t[:, 0, 0, :] for _, t in out])
-        row["t_colour"] = best_time(run_colour, max(1, repeats // 2))
+        row["t_colour"] = best_of(run_colour, max(1, repeats // 2))
         row["worst_colour"] = max(
             np.abs(R_c[..., 0] - engine_s.R).max(), np.abs(R_c[..., 1] - engine_p.R).max(),
             np.abs(T_c[..., 0] - engine_s.T).max(), np.abs(T_c[..., 1] - engine_p.T).max(),

@@ -17,21 +17,13 @@ Timings depend on the machine and its load; the ratios are what to compare.
 
 from __future__ import annotations
 
-import statistics
 import time
 
 import numpy as np
 
+from timing import time_calls
+
 POINTS = 400
-
-
-def _timed(func, repeat):
-    times, out = [], None
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        out = func()
-        times.append(time.perf_counter() - t0)
-    return min(times), statistics.median(times), out
 
 
 def main() -> int:
@@ -55,7 +47,8 @@ def main() -> int:
     first = time.perf_counter() - t_first
     imports = t_first - t0
 
-    best, median, result = _timed(lambda: fit_spectra(model, data), repeat=5)
+    fits = time_calls(lambda: fit_spectra(model, data), repeat=5)
+    best, median, result = fits.best, fits.median, fits.result
     print(f"filmoptic fit, {POINTS} points, {len(result.parameters)} parameters "
           f"(global search + refinement): best {best * 1e3:.0f} ms, median {median * 1e3:.0f} ms "
           f"(first call {first * 1e3:.0f} ms after {imports * 1e3:.0f} ms of imports)")
@@ -89,8 +82,8 @@ def main() -> int:
 
     # --- one model evaluation ---------------------------------------------------------------------
     x_true = result.stack
-    one_ours, _, _ = _timed(lambda: compute(x_true, wl), repeat=20)
-    one_tmm, _, _ = _timed(lambda: tmm_T(plain.x), repeat=3)
+    one_ours = time_calls(lambda: compute(x_true, wl), repeat=20).best
+    one_tmm = time_calls(lambda: tmm_T(plain.x), repeat=3).best
     print(f"one model spectrum: filmoptic {one_ours * 1e3:.2f} ms, tmm loop {one_tmm * 1e3:.1f} ms "
           f"(ratio {one_tmm / one_ours:.0f}×)")
     print(f"ratio: the plain local fit takes {plain_time / best:.1f}× as long as filmoptic's whole "

@@ -19,22 +19,19 @@ Everything runs in this process; no thresholds are asserted.
 
 from __future__ import annotations
 
-import statistics
-import time
 import tracemalloc
 
 import numpy as np
+
+from timing import time_calls
 
 STACK = "SiO2 ? / Ti ? / glass 4mm"
 
 
 def timed(fn, repeat=3):
-    times, out = [], None
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times), out
+    """Median time of ``repeat`` calls and the last result."""
+    timing = time_calls(fn, repeat)
+    return timing.median, timing.result
 
 
 def peak_mib(fn):

@@ -17,21 +17,13 @@ Prints timings and ratios measured in this run (no absolute thresholds):
 from __future__ import annotations
 
 import tempfile
-import time
 from pathlib import Path
 
 import numpy as np
 
+from timing import best_of
+
 ROWS = 100_000
-
-
-def best_of(fn, repeat=5):
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
 
 
 def write_files(folder: Path) -> dict:

@@ -18,18 +18,9 @@ alternate between two grids so that every call interpolates.
 
 from __future__ import annotations
 
-import time
-
 import numpy as np
 
-
-def best_of(fn, repeat=5):
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
+from timing import best_of
 
 
 def main():

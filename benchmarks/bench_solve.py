@@ -13,24 +13,16 @@ Timings depend on the machine and its load; the ratios are what to compare.
 
 from __future__ import annotations
 
-import statistics
 import sys
 import time
 
 import numpy as np
 
+from timing import time_calls
+
 STACK = "Ti ? / glass 4mm"
 ROWS = 10_000
 LOOP_SUBSET = 200
-
-
-def _best_of(func, repeat):
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        func()
-        times.append(time.perf_counter() - t0)
-    return min(times), statistics.median(times)
 
 
 def main() -> int:
@@ -42,10 +34,12 @@ def main() -> int:
     stack = parse_stack(STACK)
     target = Target("luminous_T", 0.30)
     solve_thickness(stack, target)  # start-up: imports, table loading, weight caches
-    best, median = _best_of(lambda: solve_thickness(stack, target), 15)
+    one = time_calls(lambda: solve_thickness(stack, target), 15)
+    best, median = one.best, one.median
     print(f"one solve ({STACK}, luminous T 30 %, with companions): best {best * 1e3:.1f} ms, "
           f"median {median * 1e3:.1f} ms  (goal < 50 ms: {'met' if median < 0.05 else 'NOT met'})")
-    best_c, median_c = _best_of(lambda: solve_thickness(stack, target, companions=False), 15)
+    plain = time_calls(lambda: solve_thickness(stack, target, companions=False), 15)
+    best_c, median_c = plain.best, plain.median
     print(f"one solve without companions: best {best_c * 1e3:.1f} ms, median {median_c * 1e3:.1f} ms")
 
     rng = np.random.default_rng(1)

@@ -61,7 +61,6 @@ __all__ = [
     "FILE_BYTES",
     "JSON_DEPTH",
     "NUMBER_CHARACTERS",
-    "ALL_LIMITS",
     "check_number_text",
     "work_budget",
     "charge_work",
@@ -154,10 +153,6 @@ FILE_BYTES = Limit("FILMOPTIC_MAX_FILE_MB", 200e6, "bytes", scale=1e6)
 JSON_DEPTH = Limit("FILMOPTIC_MAX_DEPTH", 64, "levels of nesting")
 #: Characters in one written number (a thickness, an index, a repeat count).
 NUMBER_CHARACTERS = 100
-
-#: Every limit that a variable can change, for documentation and tests.
-ALL_LIMITS = (GRID_POINTS, WORK, LAYERS, STACK_CHARACTERS, FILE_ROWS, FILE_BYTES, JSON_DEPTH)
-
 
 def check_number_text(text: str, what: str) -> None:
     """Refuse a number written with more than :data:`NUMBER_CHARACTERS` characters.

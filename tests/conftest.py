@@ -51,6 +51,13 @@ def run_cli_subprocess():
     return run
 
 
+@pytest.fixture
+def in_tmp(tmp_path, monkeypatch):
+    """Run the test in its own empty folder (for commands that write beside their inputs)."""
+    monkeypatch.chdir(tmp_path)
+    return tmp_path
+
+
 def assert_user_error(result: CliResult, *fragments: str) -> None:
     """A user mistake: exit code 2, exactly one line on stderr, no traceback, nothing on stdout."""
     assert result.exit_code == 2, (result.exit_code, result.stdout, result.stderr)

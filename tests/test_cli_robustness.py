@@ -19,12 +19,6 @@ from conftest import assert_user_error
 STACK = "Ti 12nm / glass 4mm"
 
 
-@pytest.fixture
-def in_tmp(tmp_path, monkeypatch):
-    monkeypatch.chdir(tmp_path)
-    return tmp_path
-
-
 def _nk_file(folder, name="film.txt"):
     path = folder / name
     path.write_text("# wavelength_nm n k\n300 1.5 0\n1000 1.5 0\n", encoding="utf-8")

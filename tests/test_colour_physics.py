@@ -12,62 +12,23 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-import colour
-import tmm
 from filmoptic import colorimetry as cm
 from filmoptic.engine import compute
 from filmoptic.materials import parse_material
 from filmoptic.stack import parse_stack
+from reference_calculations import colour_science_XYZ_Lab, tmm_unpolarized
 
 WL = cm.default_wavelengths()
-SHAPE = colour.SpectralShape(380, 780, 5)
-OBSERVER_NAMES = {2: "CIE 1931 2 Degree Standard Observer", 10: "CIE 1964 10 Degree Standard Observer"}
 
 
 # ---------------------------------------------------------------------------------------------
 # Independent reference: tmm spectra, colour-science integration
 # ---------------------------------------------------------------------------------------------
 
-def tmm_spectra(stack, angle_deg=0.0, reverse=False):
-    """R and T per wavelength from tmm, unpolarised (mean of s and p), one wavelength at a time."""
-    media = [stack.ambient] + [layer.material for layer in stack.layers] + [stack.substrate.material]
-    thickness = [np.inf] + [layer.thickness_nm for layer in stack.layers]
-    coherence = ["i"] + ["c"] * len(stack.layers)
-    if stack.substrate.thickness_nm is not None:
-        media.append(stack.exit_medium)
-        thickness += [stack.substrate.thickness_nm, np.inf]
-        coherence += ["i", "i"]
-    else:
-        thickness.append(np.inf)
-        coherence.append("i")
-    indices = np.array([np.broadcast_to(np.asarray(m.nk(WL), complex), WL.shape) for m in media])
-    if reverse:
-        indices, thickness, coherence = indices[::-1], thickness[::-1], coherence[::-1]
-    theta = np.radians(angle_deg)
-    R = np.empty(WL.size)
-    T = np.empty(WL.size)
-    for i, lam in enumerate(WL):
-        n_list = indices[:, i]
-        rs = tmm.inc_tmm("s", n_list, thickness, coherence, theta, lam)
-        rp = tmm.inc_tmm("p", n_list, thickness, coherence, theta, lam)
-        R[i] = (rs["R"] + rp["R"]) / 2
-        T[i] = (rs["T"] + rp["T"]) / 2
-    return R, T
-
-
-def reference_colour(values, illuminant_key, observer):
-    """XYZ and Lab by colour-science alone (its integration; its Lab with its white)."""
-    cmfs = colour.MSDS_CMFS[OBSERVER_NAMES[observer]].copy().align(SHAPE)
-    spd = colour.SDS_ILLUMINANTS[illuminant_key].copy().align(SHAPE)
-    XYZ = colour.sd_to_XYZ(colour.SpectralDistribution(values, WL), cmfs, spd, method="Integration")
-    white = colour.sd_to_XYZ(colour.SpectralDistribution(np.ones(WL.size), WL), cmfs, spd, method="Integration")
-    return XYZ, colour.XYZ_to_Lab(XYZ / 100, colour.XYZ_to_xy(white / 100))
-
-
 def reference_luminous(values, illuminant_key):
     # ISO 9050:2003 weights S(λ)·V(λ); V(λ) is ȳ of the CIE 1931 observer (CIE 15:2018), so the
     # luminous value is Y/100 of the 2° observer.
-    return reference_colour(values, illuminant_key, 2)[0][1] / 100
+    return colour_science_XYZ_Lab(values, WL, illuminant_key, 2)[0][1] / 100
 
 
 END_TO_END = [
@@ -86,7 +47,7 @@ def test_appearance_against_tmm_and_colour_science(text, ambient, illuminant, ob
     ours, theirs = illuminant
     stack = parse_stack(text, ambient=ambient)
     result = cm.appearance(stack, illuminant=ours, observer=observer, angle_deg=angle)
-    R, T = tmm_spectra(stack, angle)
+    R, T = tmm_unpolarized(stack, WL, angle)
     views = [(result.reflected, R)]
     lum = [(result.luminous.R, R)]
     if result.transmission == "opaque":
@@ -98,13 +59,13 @@ def test_appearance_against_tmm_and_colour_science(text, ambient, illuminant, ob
         views.append((result.transmitted, T))
         lum.append((result.luminous.T, T))
     if stack.substrate.thickness_nm is not None:
-        R_back, _ = tmm_spectra(stack, angle, reverse=True)
+        R_back, _ = tmm_unpolarized(stack, WL, angle, reverse=True)
         views.append((result.reflected_reverse, R_back))
         lum.append((result.luminous.R_reverse, R_back))
     else:
         assert result.reflected_reverse is None and result.luminous.R_reverse is None
     for colour_result, spectrum in views:
-        XYZ, Lab = reference_colour(spectrum, theirs, observer)
+        XYZ, Lab = colour_science_XYZ_Lab(spectrum, WL, theirs, observer)
         # Measured agreement: ΔE00 2e-13, XYZ 3e-14, luminous 3e-16 (same tables, same
         # integration); the bounds leave room for rounding only.
         assert cm.delta_e00(colour_result.Lab, Lab) < 1e-9

@@ -12,12 +12,12 @@ import numpy as np
 import pytest
 
 import colour
-import tmm
 from filmoptic.design import check_design, parse_goal, read_goals_file
 from filmoptic.design.evaluate import Evaluator
 from filmoptic.design.goals import DEFAULT_COLOUR_WITHIN, DEFAULT_WITHIN
 from filmoptic.errors import FilmopticError
 from filmoptic.stack import parse_stack
+from reference_calculations import colour_science_XYZ_Lab, tmm_unpolarized
 
 # ---------------------------------------------------------------------------------------------
 # Grammar
@@ -117,29 +117,6 @@ def test_goals_file_errors_name_the_line(tmp_path):
 # ---------------------------------------------------------------------------------------------
 
 
-def tmm_unpolarized(stack, wavelengths, angle_deg=0.0, reverse=False):
-    media = [stack.ambient] + [layer.material for layer in stack.layers] + [stack.substrate.material]
-    thickness = [np.inf] + [layer.thickness_nm for layer in stack.layers]
-    coherence = ["i"] + ["c"] * len(stack.layers)
-    if stack.substrate.thickness_nm is not None:
-        media.append(stack.exit_medium)
-        thickness += [stack.substrate.thickness_nm, np.inf]
-        coherence += ["i", "i"]
-    else:
-        thickness.append(np.inf)
-        coherence.append("i")
-    wl = np.asarray(wavelengths, float)
-    indices = np.array([np.broadcast_to(np.asarray(m.nk(wl), complex), wl.shape) for m in media])
-    if reverse:
-        indices, thickness, coherence = indices[::-1], thickness[::-1], coherence[::-1]
-    R, T = np.empty(wl.size), np.empty(wl.size)
-    for i, lam in enumerate(wl):
-        s = tmm.inc_tmm("s", indices[:, i], thickness, coherence, np.radians(angle_deg), lam)
-        p = tmm.inc_tmm("p", indices[:, i], thickness, coherence, np.radians(angle_deg), lam)
-        R[i], T[i] = (s["R"] + p["R"]) / 2, (s["T"] + p["T"]) / 2
-    return R, T
-
-
 STACK = "TiO2 62nm / SiO2 95nm / TiO2 30nm / glass 2mm"
 
 
@@ -173,18 +150,11 @@ def test_luminous_and_colour_goals_match_colour_science():
     stack = parse_stack("SiO2 80nm / Cr 8nm / glass 4mm")
     wl = np.arange(380.0, 781.0, 5.0)
     R, T = tmm_unpolarized(stack, wl)
-    shape = colour.SpectralShape(380, 780, 5)
-    cmfs = colour.MSDS_CMFS["CIE 1931 2 Degree Standard Observer"].copy().align(shape)
-    d65 = colour.SDS_ILLUMINANTS["D65"].copy().align(shape)
-
-    def xyz(values):
-        return colour.sd_to_XYZ(colour.SpectralDistribution(values, wl), cmfs, d65, method="Integration")
-
-    white = colour.XYZ_to_xy(xyz(np.ones(wl.size)) / 100)
-    lab_R = colour.XYZ_to_Lab(xyz(R) / 100, white)
+    _, lab_R = colour_science_XYZ_Lab(R, wl)
+    XYZ_T, _ = colour_science_XYZ_Lab(T, wl)
     target = (62.0, 1.0, -2.0)
     result = check_design(stack, ["luminous-T = 30%", "reflected Lab = 62,1,-2 within 3"])
-    assert result.goals[0].achieved == pytest.approx(xyz(T)[1] / 100, abs=1e-9)
+    assert result.goals[0].achieved == pytest.approx(XYZ_T[1] / 100, abs=1e-9)
     expected_de = colour.delta_E(lab_R, np.array(target), method="CIE 2000")
     assert result.goals[1].achieved == pytest.approx(expected_de, abs=1e-6)
     np.testing.assert_allclose(result.goals[1].lab, lab_R, atol=1e-6)

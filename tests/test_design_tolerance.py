@@ -28,12 +28,7 @@ R1, R2 = (N0 - N1) / (N0 + N1), (N1 - NS) / (N1 + NS)
 QUARTER = WL / (4 * N1)
 
 
-def film_R(d):
-    c = np.cos(4 * np.pi * N1 * np.asarray(d) / WL)
-    return (R1**2 + R2**2 + 2 * R1 * R2 * c) / (1 + R1**2 * R2**2 + 2 * R1 * R2 * c)
-
-
-def thickness_at(R, below_quarter=True):
+def thickness_at(R):
     """The thickness under the quarter wave (first branch) where the film reflects R."""
     a, b, e = R1**2 + R2**2, 2 * R1 * R2, 1 + R1**2 * R2**2
     delta = math.acos((a - R * e) / (b * (R - 1))) / 2

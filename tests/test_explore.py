@@ -12,10 +12,8 @@ import base64
 import json
 import re
 
-import colour
 import numpy as np
 import pytest
-import tmm
 
 from conftest import assert_user_error
 from filmoptic.colorimetry import appearance
@@ -23,6 +21,7 @@ from filmoptic.errors import FilmopticError
 from filmoptic.explore import explore_grids, explore_page
 from filmoptic.explore.page import FRACTION_SCALE, LAB_SCALE
 from filmoptic.stack import parse_stack
+from reference_calculations import colour_science_XYZ_Lab, tmm_unpolarized
 
 WL = np.arange(380.0, 781.0, 5.0)
 
@@ -33,20 +32,9 @@ def mirror():
     return explore_grids("Ti 0..20nm / glass 4mm", angles_deg=[0, 30, 60])
 
 
-def _tmm_R_T(stack_text, angle_deg):
-    stack = parse_stack(stack_text)
-    media = [stack.ambient, *(layer.material for layer in stack.layers), stack.substrate.material, stack.exit_medium]
-    n = np.array([np.broadcast_to(np.asarray(m.nk(WL), complex), WL.shape) for m in media])
-    d = [np.inf, *(layer.thickness_nm for layer in stack.layers), stack.substrate.thickness_nm, np.inf]
-    c = ["i", *["c"] * len(stack.layers), "i", "i"]
-    out = np.array([[tmm.inc_tmm(pol, n[:, i], d, c, np.radians(angle_deg), lam)[q] for q in ("R", "T")
-                     for pol in ("s", "p")] for i, lam in enumerate(WL)])
-    return out[:, :2].mean(axis=1), out[:, 2:].mean(axis=1)
-
-
 def test_grid_spectra_agree_with_tmm(mirror):
     a, i, j = mirror.index([8.5], 30.0)
-    R, T = _tmm_R_T("Ti 8.5nm / glass 4mm", 30.0)
+    R, T = tmm_unpolarized(parse_stack("Ti 8.5nm / glass 4mm"), WL, 30.0)
     np.testing.assert_allclose(mirror.R[a, i, j], R[::2], atol=1e-9)
     np.testing.assert_allclose(mirror.T[a, i, j], T[::2], atol=1e-9)
     np.testing.assert_array_equal(mirror.curve_wavelength_nm, WL[::2])
@@ -54,16 +42,11 @@ def test_grid_spectra_agree_with_tmm(mirror):
 
 def test_grid_colours_agree_with_colour_science(mirror):
     a, i, j = mirror.index([12.0], 0.0)
-    R, T = _tmm_R_T("Ti 12nm / glass 4mm", 0.0)
-    cmfs = colour.MSDS_CMFS["CIE 1931 2 Degree Standard Observer"].copy().align(colour.SpectralShape(380, 780, 5))
-    d65 = colour.SDS_ILLUMINANTS["D65"].copy().align(colour.SpectralShape(380, 780, 5))
-    white = colour.sd_to_XYZ(colour.SpectralDistribution(np.ones(WL.size), WL), cmfs, d65, method="Integration")
+    R, T = tmm_unpolarized(parse_stack("Ti 12nm / glass 4mm"), WL, 0.0)
     for values, key in ((R, "reflected"), (T, "transmitted")):
-        XYZ = colour.sd_to_XYZ(colour.SpectralDistribution(values, WL), cmfs, d65, method="Integration")
-        lab = colour.XYZ_to_Lab(XYZ / 100, colour.XYZ_to_xy(white / 100))
+        _, lab = colour_science_XYZ_Lab(values, WL)
         np.testing.assert_allclose(mirror.views[key]["Lab"][a, i, j], lab, atol=1e-6)
-    assert mirror.luminous["T"][a, i, j] == pytest.approx(colour.sd_to_XYZ(
-        colour.SpectralDistribution(T, WL), cmfs, d65, method="Integration")[1] / 100, abs=1e-9)
+    assert mirror.luminous["T"][a, i, j] == pytest.approx(colour_science_XYZ_Lab(T, WL)[0][1] / 100, abs=1e-9)
 
 
 def test_grid_matches_the_color_command_everywhere_it_is_sampled(mirror):

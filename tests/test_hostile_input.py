@@ -23,12 +23,6 @@ from filmoptic.errors import DataFileError, FilmopticError
 STACK = "TiO2 60nm / glass 3mm"
 
 
-@pytest.fixture
-def in_tmp(tmp_path, monkeypatch):
-    monkeypatch.chdir(tmp_path)
-    return tmp_path
-
-
 def _digest(folder) -> dict:
     return {str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
             for p in folder.rglob("*") if p.is_file()}
@@ -435,12 +429,10 @@ def test_a_degenerate_rate_fit_says_what_is_degenerate(run_cli, runs, fragment):
     assert "encountered" not in result.stderr
 
 
-def test_numpy_warnings_are_kept_from_the_user_but_not_from_developers(run_cli, monkeypatch):
+def test_numpy_warnings_are_kept_from_the_user_but_not_from_developers(monkeypatch):
     import warnings
 
     from filmoptic.cli import _show_warning
-
-    from conftest import _run_in_process  # noqa: F401 - same entry point as run_cli
 
     def noisy():
         with warnings.catch_warnings():

@@ -49,7 +49,8 @@ SHIPPED = sorted(shipped_folder().glob("*.txt"))
 # The per-file tests below are parametrized over SHIPPED; an empty folder would run none of them.
 assert SHIPPED, f"no shipped tables found in {shipped_folder()}"
 
-# The names the library must offer (issue 2), each with a default dataset.
+# The names the library must offer (the metals, oxides, fluorides, nitrides and substrates of
+# everyday coating work), each with a default dataset.
 REQUIRED_NAMES = [
     "Ag", "Al", "Au", "Cr", "Cu", "Ni", "Ti", "W", "Mo", "Pt",
     "SiO2", "TiO2", "Al2O3", "Ta2O5", "Nb2O5", "HfO2", "ZrO2", "MgF2", "ZnS", "Si3N4", "ITO", "ZnO",

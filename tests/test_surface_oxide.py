@@ -35,7 +35,9 @@ def test_silicon_loses_0_44_nm_per_nm_of_oxide():
 
 
 def test_pilling_bedworth_ratio_is_the_volume_ratio():
-    # One mole of Al2O3 (101.96 g at 3.95 g/cm³) per two moles of Al (2 × 26.98 g at 2.70 g/cm³).
+    # The ratio is the oxide's volume over the volume of the metal it consumes (Pilling & Bedworth,
+    # J. Inst. Metals 29, 529 (1923)): one mole of Al2O3 (101.96 g at 3.95 g/cm³) per two moles of
+    # Al (2 × 26.98 g at 2.70 g/cm³); the numbers are illustrative inputs.
     oxide_volume = 101.96 / 3.95
     metal_volume = 2 * 26.98 / 2.70
     assert pilling_bedworth_ratio(26.98, 2.70, 101.96, 3.95, 2) == pytest.approx(oxide_volume / metal_volume,

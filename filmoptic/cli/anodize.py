@@ -107,12 +107,6 @@ def _rows_json(chart, idx=None):
             for i in indices]
 
 
-def _head(chart, key):
-    law = chart.law
-    return {"metal": key, "nm_per_volt": law.nm_per_volt, "offset_nm": law.offset_nm,
-            "law_source": law.source, "stack": chart.film.stack_text if chart else None}
-
-
 @click.command("anodize")
 @click.argument("metal")
 @click.option("--volts", "volts_text", metavar="START:STOP:STEP",

@@ -117,10 +117,6 @@ def _given(name: str, differs_from_default: bool) -> bool:
     return source not in (ParameterSource.DEFAULT, ParameterSource.DEFAULT_MAP)
 
 
-#: How each kind of --uncertainty is said in the output.
-UNCERTAINTY_KINDS = {"relative": "of the value", "points": "percentage points", "absolute": "absolute"}
-
-
 def uncertainty_spec(u_text, colour: bool = False):
     """``--uncertainty`` as ``(amount, kind)`` (see :func:`filmoptic.units.parse_uncertainty_spec`),
     or None; a bare number above 1 for a fraction and a percentage for a colour are refused."""

@@ -31,9 +31,6 @@ __all__ = ["spectrum", "optical_density"]
 _PROGRESS_FROM = 2_000_000
 # The table gains an optical-density column when T falls below this somewhere (OD above 1).
 _OD_FROM_T = 0.10
-# The visible range over which luminous values are summed (ISO 9050); a --wl grid that spans it
-# gets the luminous T and R printed under the table.
-_VISIBLE_NM = (380.0, 780.0)
 
 
 @click.command()
@@ -247,7 +244,7 @@ def _luminous(parsed, wl, angle, polarization, reverse, extrapolate):
     """(luminous T, luminous R, whether the --wl grid spans 380–780 nm), or None when the stack's
     tables do not cover the visible. Computed on its own 5 nm grid (one more engine call), so that
     a coarse or partial --wl grid does not change it."""
-    from filmoptic.colorimetry import default_wavelengths, luminous
+    from filmoptic.colorimetry import VISIBLE_RANGE_NM, default_wavelengths, luminous
     from filmoptic.engine import compute
     from filmoptic.errors import FilmopticError
 
@@ -257,7 +254,8 @@ def _luminous(parsed, wl, angle, polarization, reverse, extrapolate):
                        extrapolate=extrapolate)
     except FilmopticError:
         return None
-    spans = float(wl.min()) <= _VISIBLE_NM[0] and float(wl.max()) >= _VISIBLE_NM[1]
+    # A --wl grid that spans the visible range gets the luminous T and R printed under the table.
+    spans = float(wl.min()) <= VISIBLE_RANGE_NM[0] and float(wl.max()) >= VISIBLE_RANGE_NM[1]
     return float(luminous(visible, spec.T)), float(luminous(visible, spec.R)), spans
 
 

@@ -90,19 +90,6 @@ MONITOR_OUTLIER_FACTOR = 1.25
 MONITOR_DROPOUT_S = (84.0, 84.6)   # a loose connector: dark readings for 0.6 s
 MONITOR_SEED = 20261203
 
-# The same studio's quarter-wave job: TiO2 on a glass witness, watched with a red laser pointer
-# and the photodiode; the layer is a quarter wave at 633 nm, so the run stops at the first turning
-# point of the signal (invented numbers, as above).
-MONITOR_QW_STACK = "TiO2 ? / glass 1mm"
-MONITOR_QW_SOURCE = "laser:633"
-MONITOR_QW_DETECTOR = "flat"
-MONITOR_QW_TURNING_POINTS = 1
-MONITOR_QW_RATE_NM_PER_S = 0.25
-MONITOR_QW_SHUTTER_OPENS_S = 8.0
-MONITOR_QW_INTERVAL_S = 0.25
-MONITOR_QW_COUNTS = 3.0            # volts from the photodiode amplifier through the bare witness
-MONITOR_QW_NOISE = 0.001
-
 # Job 6 (thickness map from a photo): the door glass of job 3 photographed on the studio's light
 # box to see how even the titanium came out. The photo is synthetic, made by the demo itself from
 # this invented thickness field: a small source's fall-off t0/(1 + r²/h²)² about a centre off the

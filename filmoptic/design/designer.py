@@ -46,7 +46,7 @@ import numpy as np
 from filmoptic.errors import FilmopticError
 
 from .evaluate import Evaluator
-from .goals import Goal, parse_goals
+from .goals import Goal, goals_span_nm, parse_goals
 from .layout import Entry, Layout, default_high_nm, layout_from_stack, same_material
 from .needle import EDGE_NM, needle_scan
 from .refine import refine
@@ -190,12 +190,8 @@ def _check_step(goals, step_nm) -> float:
 def default_reference_nm(goals) -> float:
     """The middle of the wavelengths the goals look at (380–780 nm for luminous and colour goals),
     rounded to 1 nm."""
-    lows, highs = [], []
-    for g in goals:
-        lo, hi = g.band_nm if g.kind == "spectral" else (380.0, 780.0)
-        lows.append(lo)
-        highs.append(hi)
-    return float(round(0.5 * (min(lows) + max(highs))))
+    lo, hi = goals_span_nm(goals)
+    return float(round(0.5 * (lo + hi)))
 
 
 def _quarter_waves(material, thickness_nm, reference_nm, extrapolate):

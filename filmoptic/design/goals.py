@@ -73,6 +73,7 @@ __all__ = [
     "parse_goal",
     "parse_goals",
     "read_goals_file",
+    "goals_span_nm",
     "DEFAULT_WITHIN",
     "DEFAULT_COLOUR_WITHIN",
     "ANGLE_STEP_DEG",
@@ -178,6 +179,16 @@ class Goal:
     def needs_light_through(self) -> bool:
         """Whether the goal looks at light that crosses the substrate."""
         return self.quantity == "T" or self.side == "reverse"
+
+    @property
+    def span_nm(self) -> tuple:
+        """The wavelengths the goal looks at, ``(low, high)`` nm: its band, or for luminous and
+        colour goals the visible range their values are summed over."""
+        if self.kind != "spectral":
+            from filmoptic.colorimetry import VISIBLE_RANGE_NM
+
+            return VISIBLE_RANGE_NM
+        return self.band_nm
 
     def wavelengths_nm(self, step_nm: float) -> np.ndarray:
         """The sampled wavelengths: both ends of the band and every ``step_nm`` between
@@ -465,6 +476,20 @@ def _colour_value(text: str, form: str, illuminant: str, goal: str) -> tuple:
     except FilmopticError as exc:
         message = str(exc).replace("--lab: ", "").replace("--hex: ", "")
         _fail(goal, message)
+
+
+def goals_span_nm(goals) -> tuple:
+    """``(low, high)`` nm covering every goal's :attr:`Goal.span_nm`.
+
+    Examples
+    --------
+    >>> goals_span_nm(parse_goals(["R 420..680nm <= 1%", "T 900nm >= 50%"]))
+    (420.0, 900.0)
+    >>> goals_span_nm(parse_goals(["R 700..850nm <= 1%", "luminous-T = 30%"]))
+    (380.0, 850.0)
+    """
+    spans = [goal.span_nm for goal in goals]
+    return min(lo for lo, _ in spans), max(hi for _, hi in spans)
 
 
 def parse_goals(texts, illuminant: str = "D65") -> tuple:

@@ -56,6 +56,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ..cie.transforms import MATRIX_SRGB_TO_XYZ
 from ..cie.transforms import srgb_decode  # noqa: F401 - part of this module's API (IEC 61966-2-1)
 from ..cie.transforms import srgb_encode as _srgb_encode
 from ..errors import FilmopticError
@@ -69,8 +70,6 @@ __all__ = [
     "DARK_LEVEL",
     "NOISE_BLOCK_AREA",
     "RAW_SUFFIXES",
-    "SRGB_PRIMARIES_XY",
-    "SRGB_WHITE_XY",
     "SRGB_TO_XYZ",
     "LUMINANCE_WEIGHTS",
     "srgb_decode",
@@ -125,18 +124,10 @@ RAW_SUFFIXES = (".dng", ".cr2", ".cr3", ".crw", ".nef", ".nrw", ".arw", ".srf", 
 # sRGB (IEC 61966-2-1)
 # --------------------------------------------------------------------------------------------
 
-#: Chromaticities of the sRGB red, green and blue primaries (IEC 61966-2-1, Table 1).
-SRGB_PRIMARIES_XY = ((0.64, 0.33), (0.30, 0.60), (0.15, 0.06))
-#: Chromaticity of the sRGB white, D65 (IEC 61966-2-1).
-SRGB_WHITE_XY = (0.3127, 0.3290)
-
-
 #: Linear sRGB → CIE XYZ (Y = 1 for white) as IEC 61966-2-1:1999 prints it (four decimals; the
-#: matrix computed from the primaries and white above differs by less than 5e-5).
-SRGB_TO_XYZ = np.array([[0.4124, 0.3576, 0.1805],
-                        [0.2126, 0.7152, 0.0722],
-                        [0.0193, 0.1192, 0.9505]])
-SRGB_TO_XYZ.setflags(write=False)
+#: matrix computed from the standard's primaries and D65 white differs by less than 5e-5): the
+#: colour module's :data:`filmoptic.cie.transforms.MATRIX_SRGB_TO_XYZ`, read-only.
+SRGB_TO_XYZ = MATRIX_SRGB_TO_XYZ
 #: Relative luminance of linear sRGB: the Y row of :data:`SRGB_TO_XYZ`.
 LUMINANCE_WEIGHTS = SRGB_TO_XYZ[1].copy()
 LUMINANCE_WEIGHTS.setflags(write=False)
@@ -166,9 +157,6 @@ def _lut(bits: int, encoding: str) -> np.ndarray:
 # --------------------------------------------------------------------------------------------
 # Photos
 # --------------------------------------------------------------------------------------------
-
-ENCODINGS = ("auto", "sRGB", "linear")
-
 
 @dataclass(frozen=True, eq=False)
 class Photo:

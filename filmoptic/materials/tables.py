@@ -18,9 +18,7 @@ from __future__ import annotations
 
 import functools
 import math
-import os
 import re
-from pathlib import Path
 
 import numpy as np
 

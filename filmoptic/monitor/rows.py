@@ -114,7 +114,6 @@ class RowReader:
         self.columns = None           # {"time": i, "reading": j, "reference": k} from a header
         self.header = None
         self.has_time = None          # learnt from the first data row
-        self.has_reference = None
         self._time_kind = None
         self._clock_days = 0.0
         self._last_clock = None
@@ -173,7 +172,6 @@ class RowReader:
                 raise FilmopticError(f"line {line}: {exc}") from None
             self.header = [_key(c) for c in cells]
             self.has_time = "time" in self.columns
-            self.has_reference = "reference" in self.columns
             return None
         positional = {1: {"reading": 0}, 2: {"time": 0, "reading": 1}, 3: {"time": 0, "reading": 1, "reference": 2}}
         if self.columns is None:
@@ -183,7 +181,6 @@ class RowReader:
                            "(and a reference detector's reading)")
             self.columns = positional[len(cells)]
             self.has_time = "time" in self.columns
-            self.has_reference = "reference" in self.columns
         columns = self.columns
         if self.header is None and len(cells) != len(columns):
             return Row(line, None, None, None,

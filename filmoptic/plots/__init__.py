@@ -16,16 +16,13 @@ import os
 from pathlib import Path
 
 __all__ = ["new_figure", "new_page", "save_figure", "is_page", "PAPER_SIZES_IN", "page_size_in",
-           "VISIBLE_NM", "mark_visible_band", "heading_size"]
+           "mark_visible_band", "heading_size"]
 
 _MM = 1 / 25.4
 
 #: Paper sizes, inches (width, height) in portrait: ISO 216 A4 (210 × 297 mm) and US Letter
 #: (8.5 × 11 in, ANSI/ASME Y14.1).
 PAPER_SIZES_IN = {"a4": (210 * _MM, 297 * _MM), "letter": (8.5, 11.0)}
-
-#: The visible band as colorimetry sums it (CIE 15:2018 tables, 380–780 nm).
-VISIBLE_NM = (380.0, 780.0)
 
 _PAGE_LABEL = "filmoptic page: "
 
@@ -98,8 +95,10 @@ def heading_size(text: str, width_in: float, largest: float = 14.0) -> float:
 
 def mark_visible_band(ax, *, label: bool = True) -> None:
     """Shade the visible band (380–780 nm) behind a wavelength axis, with a small caption."""
+    from filmoptic.colorimetry import VISIBLE_RANGE_NM
+
     lo, hi = ax.get_xlim()
-    a, b = max(lo, VISIBLE_NM[0]), min(hi, VISIBLE_NM[1])
+    a, b = max(lo, VISIBLE_RANGE_NM[0]), min(hi, VISIBLE_RANGE_NM[1])
     if b <= a:
         return
     ax.axvspan(a, b, color="#fff3c4", alpha=0.55, lw=0, zorder=0)

@@ -15,12 +15,9 @@ _POINTS = 600
 
 
 def _plot_range(goals):
-    lows, highs = [], []
-    for g in goals:
-        lo, hi = g.band_nm if g.kind == "spectral" else (380.0, 780.0)
-        lows.append(lo)
-        highs.append(hi)
-    lo, hi = min(lows), max(highs)
+    from filmoptic.design.goals import goals_span_nm
+
+    lo, hi = goals_span_nm(goals)
     pad = max(0.1 * (hi - lo), 20.0)
     return lo - pad, hi + pad, lo, hi
 

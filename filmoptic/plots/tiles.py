@@ -17,10 +17,8 @@ import numpy as np
 
 from filmoptic.plots import heading_size, new_page
 
-__all__ = ["tile_sheet", "A4_PORTRAIT_IN", "MAX_TILES"]
+__all__ = ["tile_sheet", "MAX_TILES"]
 
-#: A4 portrait, inches (ISO 216: 210 × 297 mm).
-A4_PORTRAIT_IN = (210 / 25.4, 297 / 25.4)
 _MARGIN, _HEADER, _LABELS, _GAP = 0.55, 1.15, 0.5, 0.12
 _MAX_TILE_IN = 2.6
 #: Most tiles a sheet holds with their labels readable.
