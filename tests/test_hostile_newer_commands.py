@@ -21,6 +21,19 @@ def in_tmp(tmp_path, monkeypatch):
     return tmp_path
 
 
+def _light_box_photos(folder):
+    """A coated glass on a light box (a bare strip at the left) and the empty box, 8-bit PNG."""
+    from filmoptic.imaging.render import encode_srgb8, write_png
+
+    y, x = np.mgrid[0:80, 0:120].astype(float)
+    through = np.repeat((0.8 * (0.35 + 0.4 * x / 119))[..., None], 3, axis=2)
+    through[:, :20] = 0.8 * 0.92
+    write_png(folder / "part.png", encode_srgb8(through))
+    write_png(folder / "box.png", encode_srgb8(np.full((80, 120, 3), 0.8)))
+    return ["--photo", "part.png", "--open", "box.png", "--bare", "0,0,16,80", "--region", "30,0,120,80",
+            "--cells", "6x4"]
+
+
 # --- a NUL character ------------------------------------------------------------------------------
 @pytest.mark.parametrize("args", [
     ["spectrum", "Ti 5nm / glass", "--plot", "ou\x00t.png"],
@@ -32,3 +45,25 @@ def test_a_nul_character_in_any_value_is_one_line(run_cli, in_tmp, args):
     # the operating system's path calls and ended in a ValueError.
     assert_user_error(run_cli(args), "NUL character")
     assert list(in_tmp.iterdir()) == []
+
+
+# --- map --------------------------------------------------------------------------------------
+@pytest.mark.parametrize("value", ["inf", "nan", "-1", "0"])
+def test_map_refuses_a_photo_limit_that_is_not_a_positive_number(run_cli, in_tmp, value):
+    args = _light_box_photos(in_tmp)
+    assert_user_error(run_cli(["map", "Ti ? / glass 4mm", *args, "--max-megapixels", value]), "--max-megapixels")
+
+
+def test_map_takes_a_huge_photo_limit_as_no_limit(run_cli, in_tmp):
+    # 1e308 megapixels overflowed when turned into a whole number of pixels.
+    args = _light_box_photos(in_tmp)
+    result = run_cli(["map", "Ti ? / glass 4mm", *args, "--max-megapixels", "1e308", "--json"])
+    assert result.exit_code == 0, result.stderr
+
+
+def test_colour_map_counts_its_thickness_grid_before_making_it(run_cli, in_tmp):
+    # --range 0:1e9 in colour mode built a billion-point grid (gigabytes, half a minute) before the
+    # work limit refused it; the grid limit now refuses it before anything is allocated.
+    args = _light_box_photos(in_tmp)
+    result = run_cli(["map", "TiO2 ? / Ti", *args[:4], "--cells", "6x4", "--mode", "colour", "--range", "0:1e9"])
+    assert_user_error(result, "--range 0:1e+09", "FILMOPTIC_MAX_POINTS")

@@ -219,6 +219,8 @@ def map_thickness(stack, photo, *, mode="transmission", bare=None, flat=None, da
     from ..units import parse_length_nm
 
     mode = _mode(mode)
+    if max_pixels is not None and not 0 < max_pixels < np.inf:
+        raise FilmopticError(f"the largest photo must be a positive number of pixels, got {max_pixels!r}")
     max_pixels = MAX_PIXELS if max_pixels is None else int(max_pixels)
     if scale_px_per_mm is not None and not (np.isfinite(scale_px_per_mm) and scale_px_per_mm > 0):
         raise FilmopticError(f"--scale must be a positive number of pixels per mm, got {scale_px_per_mm!r}")
