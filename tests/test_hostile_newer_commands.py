@@ -67,3 +67,42 @@ def test_colour_map_counts_its_thickness_grid_before_making_it(run_cli, in_tmp):
     args = _light_box_photos(in_tmp)
     result = run_cli(["map", "TiO2 ? / Ti", *args[:4], "--cells", "6x4", "--mode", "colour", "--range", "0:1e9"])
     assert_user_error(result, "--range 0:1e+09", "FILMOPTIC_MAX_POINTS")
+
+
+# --- monitor ----------------------------------------------------------------------------------
+def _recording(references):
+    """A metal darkening the beam after the shutter opens at 5 s, with a reference detector column."""
+    rows = ["t_s,reading,reference"]
+    for i in range(120):
+        t = 0.5 * i
+        reading = 1000.0 if t < 5 else 1000.0 * np.exp(-(t - 5) / 25.0)
+        rows.append(f"{t},{reading:.2f},{references[i % len(references)]}")
+    return "\n".join(rows) + "\n"
+
+
+MONITOR = ["monitor", "Ti ? / glass 4mm", "run.csv", "--replay", "--source", "led:530/30", "--detector", "flat",
+           "--target", "5nm", "--json"]
+
+
+def test_reference_readings_at_zero_during_the_baseline_are_left_out(run_cli, in_tmp, monkeypatch):
+    # A reference detector reading 0 (or next to it) during the baseline was divided by: numpy's
+    # "divide by zero" reached the user. Such readings are now left out, as dropouts are later.
+    monkeypatch.setenv("FILMOPTIC_DEBUG", "1")
+    (in_tmp / "run.csv").write_text(_recording(["0", "1e-300", "500", "nan"]))
+    before = (in_tmp / "run.csv").read_bytes()
+    result = run_cli(MONITOR)
+    assert result.exit_code in (0, 3), result.stderr
+    assert "encountered" not in result.stderr and "Traceback" not in result.stderr
+    assert (in_tmp / "run.csv").read_bytes() == before
+
+
+def test_a_reference_detector_that_never_sees_light_is_one_line(run_cli, in_tmp, monkeypatch):
+    monkeypatch.setenv("FILMOPTIC_DEBUG", "1")
+    (in_tmp / "run.csv").write_text(_recording(["0"]))
+    result = run_cli(MONITOR)
+    # The baseline ends after the first readings, so the run has begun: exit 3 with the summary
+    # and one error line, or exit 2 with one line.
+    lines = [line for line in result.stderr.splitlines() if line.startswith("filmoptic: error:")]
+    assert result.exit_code in (2, 3), result.stderr
+    assert len(lines) == 1 and "reference detector reads nothing above its dark reading" in lines[0]
+    assert "encountered" not in result.stderr
