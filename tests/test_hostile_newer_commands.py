@@ -1,5 +1,6 @@
-"""Hostile input to the newer commands (monitor, map, design, explore, anodize, heat-tint) and the
-newer options of the older ones: one test for every failure a fuzz run (``tools/fuzz.py``) found.
+"""Hostile input found by the fuzz runs (``tools/fuzz.py``) that cover the newer commands (monitor,
+map, design, explore, anodize, heat-tint), the newer options of the older ones and the quarter-wave
+and native-oxide notation: one test for every failure found, in whatever command it surfaced.
 
 Each case ends either in an answer or in exit code 2 with one line that names the problem, with no
 traceback, no numpy warning text and no changed input. ``FILMOPTIC_DEBUG=1`` is set where a test
@@ -8,6 +9,8 @@ contract, not of physics.
 """
 
 from __future__ import annotations
+
+import json
 
 import numpy as np
 import pytest
@@ -106,3 +109,32 @@ def test_a_reference_detector_that_never_sees_light_is_one_line(run_cli, in_tmp,
     assert result.exit_code in (2, 3), result.stderr
     assert len(lines) == 1 and "reference detector reads nothing above its dark reading" in lines[0]
     assert "encountered" not in result.stderr
+
+
+# --- models and the engine ---
+
+def test_light_from_behind_through_a_glass_half_space_is_not_lost_precision(run_cli):
+    # The default glass absorbs a little (k ≈ 2e-6 near 840 nm). Lit from behind, that glass is
+    # the incident medium: it keeps its k at normal incidence, as tmm does, and the incident and
+    # reflected waves interfere in the energy flow, so R + T exceeds 1 by about 1e-6. The last
+    # guard took that for lost precision ("please report the stack").
+    import math
+
+    import tmm
+
+    from filmoptic.engine import compute
+    from filmoptic.stack import parse_stack
+
+    result = run_cli(["spectrum", "TiO2 55nm / glass", "--wl", "400:900:10", "--reverse", "--json"])
+    assert result.exit_code == 0, result.stderr
+    answer = json.loads(result.stdout)
+    for key in ("R", "T", "A"):
+        assert all(0.0 <= v <= 1.0 for v in answer[key]), key
+    # Byrnes 2016 (tmm.coh_tmm) with the complex incident index: the same R and T, whose sum is
+    # above 1 there by the interference term.
+    stack = parse_stack("TiO2 55nm / glass")
+    N = [complex(m.nk(840.0)) for m in (stack.substrate.material, stack.layers[0].material, stack.ambient)]
+    reference = tmm.coh_tmm("s", N, [math.inf, 55.0, math.inf], 0.0, 840.0)
+    ours = compute(stack, np.array([840.0]), reverse=True)
+    assert reference["R"] + reference["T"] > 1.0 + 1e-6
+    assert abs(ours.R[0] - reference["R"]) <= 1e-12 and abs(ours.T[0] - reference["T"]) <= 1e-12
