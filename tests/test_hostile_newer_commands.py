@@ -111,7 +111,13 @@ def test_a_reference_detector_that_never_sees_light_is_one_line(run_cli, in_tmp,
     assert "encountered" not in result.stderr
 
 
-# --- models and the engine ---
+# --- models and the engine --------------------------------------------------------------------
+def test_a_model_coefficient_that_overflows_is_one_line(run_cli):
+    # drude(1.5,1e300,2.3): the plasma energy squared overflows Python's float power (an
+    # OverflowError traceback where numpy would have given inf).
+    assert_user_error(run_cli(["solve", "drude(1.5,1e300,2.3) 92nm / SiO2 ? / glass 3mm", "--luminous-T", "0.3"]),
+                      "drude", "overflows")
+
 
 def test_light_from_behind_through_a_glass_half_space_is_not_lost_precision(run_cli):
     # The default glass absorbs a little (k ≈ 2e-6 near 840 nm). Lit from behind, that glass is
