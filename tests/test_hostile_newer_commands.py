@@ -111,6 +111,16 @@ def test_a_reference_detector_that_never_sees_light_is_one_line(run_cli, in_tmp,
     assert "encountered" not in result.stderr
 
 
+def test_map_refuses_a_scale_no_photo_has(run_cli, in_tmp):
+    # --scale 1e-300 put the cells 1e302 mm apart and the radial profile fit met r² = inf
+    # (scipy: "Residuals are not finite in the initial point", a traceback).
+    args = _light_box_photos(in_tmp)
+    assert_user_error(run_cli(["map", "Ti ? / glass 4mm", *args, "--scale", "1e-300"]), "--scale 1e-300",
+                      "pixels per mm")
+    result = run_cli(["map", "Ti ? / glass 4mm", *args, "--scale", "1e-5", "--json"])
+    assert result.exit_code == 0, result.stderr
+
+
 # --- models and the engine --------------------------------------------------------------------
 def test_a_model_coefficient_that_overflows_is_one_line(run_cli):
     # drude(1.5,1e300,2.3): the plasma energy squared overflows Python's float power (an
