@@ -121,6 +121,15 @@ def test_map_refuses_a_scale_no_photo_has(run_cli, in_tmp):
     assert result.exit_code == 0, result.stderr
 
 
+# --- design -----------------------------------------------------------------------------------
+def test_the_needle_scan_counts_its_depths_before_making_them(run_cli):
+    # A layer free to grow to a metre (0..1e9nm) reached the needle step at 5e8 nm and asked for
+    # 125 million depths (gigabytes, minutes). The grid limit now refuses the scan at once.
+    result = run_cli(["design", "n=2.3+2.3j 0..1e9nm / SiO2 ? / Ti", "--materials", "SiO2", "--goal",
+                      "reflected Lab = 55,0,-25 within 2", "--tries", "0", "--starts", "1"])
+    assert_user_error(result, "needle depths", "FILMOPTIC_MAX_POINTS")
+
+
 # --- models and the engine --------------------------------------------------------------------
 def test_a_model_coefficient_that_overflows_is_one_line(run_cli):
     # drude(1.5,1e300,2.3): the plasma energy squared overflows Python's float power (an
