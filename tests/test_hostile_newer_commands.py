@@ -111,6 +111,21 @@ def test_a_reference_detector_that_never_sees_light_is_one_line(run_cli, in_tmp,
     assert "encountered" not in result.stderr
 
 
+def test_a_run_that_fails_on_its_first_row_is_one_line_even_with_on_target(run_cli, in_tmp):
+    # The --on-target caution was printed before the first reading, so a run refused at its first
+    # row (a reference detector that reads nothing) ended with two lines. The caution now comes
+    # with the first reading; a command that never ran needs none.
+    (in_tmp / "run.csv").write_text(_recording(["0"]))
+    result = run_cli([*MONITOR[:-1], "--baseline", "0", "--on-target", "true"])
+    assert_user_error(result, "reference detector")
+
+    (in_tmp / "good.csv").write_text(_recording(["500"]))
+    result = run_cli(["monitor", "Ti ? / glass 4mm", "good.csv", "--replay", "--source", "led:530/30", "--detector",
+                      "flat", "--target", "5nm", "--on-target", "true", "--json"])
+    assert result.exit_code == 0, result.stderr
+    assert result.stderr.count("CAUTION") == 1 and "interlock" in result.stderr
+
+
 def test_map_refuses_a_scale_no_photo_has(run_cli, in_tmp):
     # --scale 1e-300 put the cells 1e302 mm apart and the radial profile fit met r² = inf
     # (scipy: "Residuals are not finite in the initial point", a traceback).

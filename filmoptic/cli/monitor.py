@@ -482,8 +482,9 @@ def _run(plan, input_path, *, baseline_s, reference, dark, reference_dark, windo
                 skip_line = max((r[3] or 0) for r in rows) if spec.kind == "file" else 0
                 skip_clock = rows[-1][0] if spec.kind != "file" else None
         log = RunLog.open(log_path, settings, resume=resume, started=started)
-    if on_target is not None:
-        echo_caution(ON_TARGET_CAUTION, as_json)
+    # Said once the first reading is in: a run that fails on its first row (no light during the
+    # baseline) ends with one error line, the caution for a command that never ran left out.
+    caution_due = on_target is not None
     display = _Display(as_json, plan)
     tgt = plan.target
     if not as_json:
@@ -508,6 +509,9 @@ def _run(plan, input_path, *, baseline_s, reference, dark, reference_dark, windo
         for estimate in run:
             if estimate is None:
                 continue
+            if caution_due:
+                echo_caution(ON_TARGET_CAUTION, as_json)
+                caution_due = False
             if estimates is not None:
                 estimates.append(estimate)
             if estimate.target_reached and not already:
