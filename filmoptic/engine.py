@@ -1187,8 +1187,8 @@ def _packet_intensities(pols, a, b, optics, thick, back, workspace, packet=0):
         loss_log = loss_big
     if any(np.ndim(chain.log_scale) for chain in chains):
         # Rescaled (long) packets: add the logarithms before exponentiating, so that a large
-        # rescaling never meets a vanishing loss factor as inf·0.
-        return [chain.intensities(np.exp(chain.log_scale + loss_log)) for chain in chains]
+        # rescaling never meets a vanishing loss or transmission factor as inf·0.
+        return [chain.intensities(log_loss=chain.log_scale + loss_log) for chain in chains]
     loss_factor = np.exp(loss_log, out=loss_log) if loss_big is not None else np.exp(loss_log)
     return [chain.intensities(loss_factor) for chain in chains]
 
@@ -1294,10 +1294,12 @@ class _Chain:
         out += square
         return out
 
-    def intensities(self, loss_factor):
+    def intensities(self, loss_factor=None, *, log_loss=None):
         """R, T (and from the back) from the finished columns.
 
-        ``loss_factor`` is |Π exp(iδ)|² times this chain's rescaling (if any).
+        ``loss_factor`` is |Π exp(iδ)|² times this chain's rescaling (if any); or ``log_loss``
+        its logarithm, which is added to log|Π t_j|² before exponentiating (a long packet's
+        rescaling can pass e^709 while |Π t_j|² passes e^-745: their product is finite).
         """
         m00, m10 = self._front(*self.cols[0], "c0")
         inv2 = self._abs2(m00, "inv2")
@@ -1311,8 +1313,17 @@ class _Chain:
             Rb *= inv2
         # |t|²·(power factor) = |Π t_j|²·|Π exp(iδ_j)|²·(rescaling)/|M00|²·(power factor); the
         # factors of (angle, wavelength) size are combined before touching the batch.
+        ratio_front = self.optics.power_ratio(self.pol, self.a, self.b)
+        if log_loss is not None:
+            Tf = np.multiply(inv2, np.exp(log_loss + self.log_t2), out=self._buffer("Tf", inv2.shape, float))
+            Tf *= ratio_front
+            if not self.back:
+                return Rf, Tf, None, None
+            Tb = inv2 * np.exp(log_loss + self.log_t2_back)
+            Tb *= self.optics.power_ratio(self.pol, self.b, self.a)
+            return Rf, Tf, Rb, Tb
         inv2 *= loss_factor
-        front = np.exp(self.log_t2) * self.optics.power_ratio(self.pol, self.a, self.b)
+        front = np.exp(self.log_t2) * ratio_front
         Tf = np.multiply(inv2, front, out=self._buffer("Tf", inv2.shape, float))
         if not self.back:
             return Rf, Tf, None, None

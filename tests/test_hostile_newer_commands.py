@@ -178,3 +178,36 @@ def test_light_from_behind_through_a_glass_half_space_is_not_lost_precision(run_
     ours = compute(stack, np.array([840.0]), reverse=True)
     assert reference["R"] + reference["T"] > 1.0 + 1e-6
     assert abs(ours.R[0] - reference["R"]) <= 1e-12 and abs(ours.T[0] - reference["T"]) <= 1e-12
+
+
+def test_a_ten_thousand_period_stack_keeps_its_transmittance():
+    # A quarter-wave notation repeat of 10 000 pairs (the fuzzer's '[H / L]x10000') reached the
+    # last guard: the long packet's rescaling passed e^709 while the product of the interface
+    # transmissions |Π t_j|² fell below e^-745, and inf·0 gave NaN. The logarithms are now added
+    # before exponentiating. Lossless periods are checked in their pass band against the
+    # closed form of a periodic multilayer: M^N = U_{N-1}(a)·M − U_{N-2}(a)·I with Chebyshev
+    # polynomials of a = (M11 + M22)/2 (Born & Wolf, Principles of Optics, §1.6.5), and
+    # R, T from the assembly's B, C (Macleod, Thin-Film Optical Filters, ch. 2).
+    from filmoptic.engine import compute
+    from filmoptic.stack import parse_stack
+
+    def layer(n, d, wl):
+        delta = 2 * np.pi * n * d / wl
+        return np.array([[np.cos(delta), -1j * np.sin(delta) / n], [-1j * n * np.sin(delta), np.cos(delta)]])
+
+    wavelengths = np.array([450.0, 700.0, 800.0])
+    result = compute(parse_stack("[n=2.4 60nm / n=1.38 90nm]x10000 / n=1.52", ambient="n=1"), wavelengths)
+    for i, wl in enumerate(wavelengths):
+        M = layer(2.4, 60.0, wl) @ layer(1.38, 90.0, wl)
+        a = (M[0, 0] + M[1, 1]).real / 2
+        assert abs(a) < 1                                    # a pass band: the powers stay bounded
+        theta = np.arccos(a)
+        U = lambda k: np.sin((k + 1) * theta) / np.sin(theta)  # noqa: E731
+        B, C = (U(9999) * M - U(9998) * np.eye(2)) @ np.array([1.0, 1.52])
+        R = abs((B - C) / (B + C)) ** 2
+        T = 4 * 1.52 / abs(B + C) ** 2
+        assert abs(result.R[i] - R) <= 1e-11 and abs(result.T[i] - T) <= 1e-9, (wl, result.R[i], R, result.T[i], T)
+    # The stack that showed it, absorbing and with a metal behind the mirror, now answers.
+    shown = parse_stack("{600nm H=Ta2O5 L=SiO2} [H / L]x10000 / 0.5L / Au 92nm / SiO2 50nm / glass")
+    result = compute(shown, np.array([380.0, 500.0]), extrapolate=True)
+    assert np.all((result.R >= 0) & (result.T >= 0) & (result.R + result.T <= 1))
