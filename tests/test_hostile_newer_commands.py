@@ -126,6 +126,17 @@ def test_a_run_that_fails_on_its_first_row_is_one_line_even_with_on_target(run_c
     assert result.stderr.count("CAUTION") == 1 and "interlock" in result.stderr
 
 
+@pytest.mark.parametrize("target", ["1e-300nm", "1e-9nm"])
+def test_a_plan_for_a_vanishing_target_has_its_usual_rows(run_cli, target):
+    # The plan's rows ran from 0 to the target with an absolute slack of 1e-9 nm: over a step of
+    # 1e-302 nm (a target of 1e-300 nm) that asked numpy for 10^293 rows, a ValueError traceback.
+    result = run_cli(["monitor", "Ti ? / glass 4mm", "--plan", "--target", target, "--source", "led:530/30",
+                      "--json"])
+    assert result.exit_code == 0, result.stderr
+    normal = run_cli(["monitor", "Ti ? / glass 4mm", "--plan", "--target", "9nm", "--source", "led:530/30", "--json"])
+    assert len(json.loads(result.stdout)["rows"]) == len(json.loads(normal.stdout)["rows"])
+
+
 def test_map_refuses_a_scale_no_photo_has(run_cli, in_tmp):
     # --scale 1e-300 put the cells 1e302 mm apart and the radial profile fit met r² = inf
     # (scipy: "Residuals are not finite in the initial point", a traceback).

@@ -219,7 +219,7 @@ def _print_plan(table, plan, reference, dark, as_json):
         row.append(percent(table.ratio[i]))
         if reference is not None:
             row.append(_raw(dark + table.ratio[i] * (reference - dark), reference))
-        row.append("← stop" if abs(d - table.target_nm) < 1e-9 else "")
+        row.append("← stop" if abs(d - table.target_nm) <= 1e-9 * table.target_nm else "")
         rows.append(row)
     target_reading = None if reference is None else dark + table.target_ratio * (reference - dark)
     if as_json:
