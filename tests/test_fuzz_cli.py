@@ -386,7 +386,7 @@ def _output(draw, files, suffix):
     choice = draw(st.sampled_from(["fresh", "input", "input", "library"]))
     if choice == "input" and files:
         name = draw(st.sampled_from(sorted(files)))
-        return draw(st.sampled_from([name, f"./{name}", f"sub/../{name}"]))
+        return draw(st.sampled_from([name, f"./{name}", f"sub/../{name}", f".//{name}"]))
     if choice == "library":
         return f"lib/out{draw(st.sampled_from([suffix, '.txt', '.NK']))}"
     return f"out{suffix}"

@@ -501,7 +501,8 @@ def _output(rng, case, suffix) -> str:
     roll = rng.random()
     if existing and roll < 0.35:
         name = _pick(rng, existing)
-        return _pick(rng, [name, "./" + name, os.path.join("..", "work", name), "sub/../" + name])
+        return _pick(rng, [name, "./" + name, os.path.join("..", "work", name), "sub/../" + name, ".//" + name,
+                           "sub//.././" + name], 6)
     if "lib" in case.env.values() and roll < 0.5:
         # A table-like name would become part of the library: it must be refused.
         return "lib/out" + _pick(rng, [suffix, ".txt", ".nk"], 3)
