@@ -222,3 +222,26 @@ def test_a_ten_thousand_period_stack_keeps_its_transmittance():
     shown = parse_stack("{600nm H=Ta2O5 L=SiO2} [H / L]x10000 / 0.5L / Au 92nm / SiO2 50nm / glass")
     result = compute(shown, np.array([380.0, 500.0]), extrapolate=True)
     assert np.all((result.R >= 0) & (result.T >= 0) & (result.R + result.T <= 1))
+
+
+# --- numbers click lets through ----------------------------------------------------------------
+@pytest.mark.parametrize("value", ["nan", "inf"])
+@pytest.mark.parametrize("args, option", [
+    (["sweep", "Ti ? / glass", "--range", "0:20:2"], "--table-step"),
+    (["anodize", "Ti", "--hex", "#3d64ab"], "--max-delta-e"),
+    (["heat-tint", "steel", "--hex", "#3d64ab"], "--max-delta-e"),
+    (["anodize", "Ti"], "--nm-per-volt"),
+    (["monitor", "Ti ? / glass 4mm", "-", "--replay", "--target", "5nm"], "--speed"),
+    (["monitor", "Ti ? / glass 4mm", "--plan", "--target", "5nm"], "--step"),
+    (["solve", "Ti ? / glass", "--luminous-T", "30%"], "--step"),
+    (["explore", "Ti ? / glass 4mm", "--out", "page.html"], "--max-mb"),
+])
+def test_a_bounded_number_option_refuses_nan_and_infinity(run_cli, in_tmp, args, option, value):
+    # click's FloatRange compares the bounds only, and every comparison with nan is false:
+    # '--table-step nan' reached int() (a traceback), '--max-delta-e nan' was reported as the
+    # wrong option, '--speed nan' was taken as no pacing at all.
+    # (infinity past an upper bound is refused by the range itself)
+    result = run_cli([*args, option, value])
+    assert_user_error(result, option)
+    assert "not a finite number" in result.stderr or "not in the range" in result.stderr
+    assert list(in_tmp.iterdir()) == []

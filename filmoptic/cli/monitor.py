@@ -7,6 +7,7 @@ import sys
 import click
 
 from filmoptic.cli._common import (
+    FiniteFloatRange,
     ambient_option,
     angle_option,
     check_plot_path,
@@ -312,7 +313,7 @@ def _print_plan(table, plan, reference, dark, as_json):
 @click.option("--resume", is_flag=True, help="Continue the run recorded in --log after a crash.")
 @click.option("--replay", is_flag=True,
               help="INPUT is a complete recorded file: run over it as fast as possible (see --speed).")
-@click.option("--speed", type=click.FloatRange(min=0, min_open=True), metavar="X",
+@click.option("--speed", type=FiniteFloatRange(min=0, min_open=True), metavar="X",
               help="With --replay: replay in simulated real time, X times faster.")
 @click.option("--keep-going", is_flag=True, help="Go on after the target (to watch the overshoot, or replay a whole run).")
 @click.option("--plan", "plan_only", is_flag=True,
@@ -323,7 +324,7 @@ def _print_plan(table, plan, reference, dark, as_json):
               help="Write a plot (PNG, SVG or PDF): the plan, or the run's signal and thickness against time.")
 @click.option("--range", "range_text", metavar="0:STOP", help="Thicknesses to model, nm (default: the solve "
               "range of the layer, stretched past the target).")
-@click.option("--step", type=click.FloatRange(min=1e-4, max=5), metavar="NM",
+@click.option("--step", type=FiniteFloatRange(min=1e-4, max=5), metavar="NM",
               help="Grid step of the modelled signal, nm (default: 0.02 or finer).")
 @angle_option
 @ambient_option
