@@ -354,7 +354,7 @@ class _Job:
         # that broadcast: either way the chunk gets arrays of its own.
         R = Rc.copy() if Rc.shape == shape else np.array(np.broadcast_to(Rc, shape))
         T = Tc.copy() if Tc.shape == shape else np.array(np.broadcast_to(Tc, shape))
-        _check_result(R, T, self.wl[wsl])
+        _check_result(R, T, self.wl[wsl], self.indices[0][wsl] if np.ndim(self.indices[0]) else self.indices[0])
         if self.transmission == "opaque":
             # Everything that enters an absorbing half-space stays there.
             A_substrate, T = T, np.zeros(shape)
@@ -514,7 +514,7 @@ def compute_indices(indices, thickness_nm, wavelength_nm, *, incoherent=None, an
     check_work(wl.size * max(batch, 1) * max(angles.size, 1), len(indices) - 1)
     _charge(wl.size * max(batch, 1) * max(angles.size, 1), len(indices) - 1)
     R, T, _ = _solve(indices, table, flags, wl, angles.reshape(-1), pol)
-    _check_result(R, T, wl)
+    _check_result(R, T, wl, indices[0])
     shape = batch_shape + angles.shape + wl.shape
     return R.reshape(shape), T.reshape(shape)
 
@@ -590,12 +590,21 @@ def _charge(points: int, interfaces: int) -> None:
     charge_work((points + _CALL_POINTS) * max(interfaces, 1))
 
 
-def _check_result(R, T, wl) -> None:
+def _check_result(R, T, wl, N0=1.0) -> None:
     """R and T are fractions of the incident light: finite and within [0, 1] (a last guard; the
-    inputs are checked so that this never fails)."""
+    inputs are checked so that this never fails).
+
+    An incident medium that absorbs a little (a glass half-space lit from behind, water in the
+    near infrared; k/n up to :data:`filmoptic.materials.TRANSPARENT_K_OVER_N`) keeps its k at
+    normal incidence, as tmm does. The incident and reflected waves then interfere in the energy
+    flow, and R + T exceeds 1 - A by up to 2·(k0/n0)·|r| (Born & Wolf, Principles of Optics,
+    §1.5.2, the Poynting vector of two waves in an absorbing medium): that much is physics, not
+    lost precision, and is allowed."""
     tolerance = 1e-9
+    N0 = np.asarray(N0, dtype=complex)
+    interference = 2.0 * np.abs(N0.imag) / np.abs(N0.real) * np.sqrt(np.clip(R, 0.0, None))
     good = (np.isfinite(R) & np.isfinite(T) & (R >= -tolerance) & (T >= -tolerance)
-            & (R + T <= 1.0 + 1e-6))
+            & (R + T <= 1.0 + 1e-6 + interference))
     if not np.all(good):
         where = float(np.broadcast_to(wl, R.shape)[~good].flat[0])
         raise FilmopticError(
@@ -1178,8 +1187,8 @@ def _packet_intensities(pols, a, b, optics, thick, back, workspace, packet=0):
         loss_log = loss_big
     if any(np.ndim(chain.log_scale) for chain in chains):
         # Rescaled (long) packets: add the logarithms before exponentiating, so that a large
-        # rescaling never meets a vanishing loss factor as inf·0.
-        return [chain.intensities(np.exp(chain.log_scale + loss_log)) for chain in chains]
+        # rescaling never meets a vanishing loss or transmission factor as inf·0.
+        return [chain.intensities(log_loss=chain.log_scale + loss_log) for chain in chains]
     loss_factor = np.exp(loss_log, out=loss_log) if loss_big is not None else np.exp(loss_log)
     return [chain.intensities(loss_factor) for chain in chains]
 
@@ -1285,10 +1294,12 @@ class _Chain:
         out += square
         return out
 
-    def intensities(self, loss_factor):
+    def intensities(self, loss_factor=None, *, log_loss=None):
         """R, T (and from the back) from the finished columns.
 
-        ``loss_factor`` is |Π exp(iδ)|² times this chain's rescaling (if any).
+        ``loss_factor`` is |Π exp(iδ)|² times this chain's rescaling (if any); or ``log_loss``
+        its logarithm, which is added to log|Π t_j|² before exponentiating (a long packet's
+        rescaling can pass e^709 while |Π t_j|² passes e^-745: their product is finite).
         """
         m00, m10 = self._front(*self.cols[0], "c0")
         inv2 = self._abs2(m00, "inv2")
@@ -1302,8 +1313,17 @@ class _Chain:
             Rb *= inv2
         # |t|²·(power factor) = |Π t_j|²·|Π exp(iδ_j)|²·(rescaling)/|M00|²·(power factor); the
         # factors of (angle, wavelength) size are combined before touching the batch.
+        ratio_front = self.optics.power_ratio(self.pol, self.a, self.b)
+        if log_loss is not None:
+            Tf = np.multiply(inv2, np.exp(log_loss + self.log_t2), out=self._buffer("Tf", inv2.shape, float))
+            Tf *= ratio_front
+            if not self.back:
+                return Rf, Tf, None, None
+            Tb = inv2 * np.exp(log_loss + self.log_t2_back)
+            Tb *= self.optics.power_ratio(self.pol, self.b, self.a)
+            return Rf, Tf, Rb, Tb
         inv2 *= loss_factor
-        front = np.exp(self.log_t2) * self.optics.power_ratio(self.pol, self.a, self.b)
+        front = np.exp(self.log_t2) * ratio_front
         Tf = np.multiply(inv2, front, out=self._buffer("Tf", inv2.shape, float))
         if not self.back:
             return Rf, Tf, None, None

@@ -90,6 +90,12 @@ def check_arguments(command, args) -> None:
 
     if "--help" in args or "-h" in args:
         return
+    for token in args:
+        if "\x00" in token:
+            # No shell passes one (argv entries end at NUL), and no file name may hold one; the
+            # operating system's calls would fail on it deep inside a command.
+            shown = token.replace("\x00", "\\0")
+            raise click.UsageError(f"'{shown[:60]}': a NUL character cannot be part of a value or a file name")
     table = _option_table(command)
     seen = {}          # option name -> how it was written
     outputs = []       # (option, path)

@@ -36,6 +36,7 @@ __all__ = [
     "echo_caution",
     "WavelengthsType",
     "FractionType",
+    "FiniteFloatRange",
     "transmission_note",
     "echo_surface_oxides",
     "warn_thin_metal",
@@ -140,6 +141,17 @@ class FractionType(click.ParamType):
             return parse_fraction(value, what=f"--{param.name}" if param else "value")
         except FilmopticError as exc:
             raise click.UsageError(str(exc)) from None
+
+
+class FiniteFloatRange(click.FloatRange):
+    """click's FloatRange that also refuses nan and ±inf: click compares the bounds only, and
+    every comparison with nan is false, so ``--speed nan`` passed a ``x>0`` range."""
+
+    def convert(self, value, param, ctx):
+        rv = super().convert(value, param, ctx)
+        if not math.isfinite(rv):
+            self.fail(f"{rv} is not a finite number", param, ctx)
+        return rv
 
 
 def to_jsonable(obj):

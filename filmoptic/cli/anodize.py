@@ -9,6 +9,7 @@ from __future__ import annotations
 import click
 
 from filmoptic.cli._common import (
+    FiniteFloatRange,
     angle_option,
     check_plot_path,
     echo_caution,
@@ -32,12 +33,12 @@ DEFAULT_VOLTS = "0:100:5"
 DEFAULT_MAX_DELTA_E = 10.0
 
 _NM_PER_VOLT = click.option(
-    "--nm-per-volt", type=click.FloatRange(min=0, min_open=True, max=100), metavar="K",
+    "--nm-per-volt", type=FiniteFloatRange(min=0, min_open=True, max=100), metavar="K",
     help="Oxide growth of your bath in nm per volt, replacing the metal's default (baths, "
          "temperatures and alloys differ).",
 )
 _OFFSET = click.option(
-    "--offset-nm", type=click.FloatRange(min=-1000, max=1000), metavar="NM",
+    "--offset-nm", type=FiniteFloatRange(min=-1000, max=1000), metavar="NM",
     help="Oxide thickness at 0 V in the law d = K·V + offset (e.g. the air-formed oxide); default 0.",
 )
 
@@ -116,7 +117,7 @@ def _rows_json(chart, idx=None):
 @click.option("--hex", "hex_", metavar="#RRGGBB",
               help="A colour wanted (sRGB): list every voltage, one per interference order, that gives it.")
 @click.option("--lab", metavar="L,a,b", help="The same as --hex from CIELAB L*, a*, b* (under --illuminant).")
-@click.option("--max-delta-e", type=click.FloatRange(min=0, min_open=True), default=DEFAULT_MAX_DELTA_E,
+@click.option("--max-delta-e", type=FiniteFloatRange(min=0, min_open=True), default=DEFAULT_MAX_DELTA_E,
               show_default=True, metavar="DE",
               help="With --hex/--lab: largest ΔE00 (CIEDE2000) that still counts as a match.")
 @_NM_PER_VOLT

@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from filmoptic.cli._common import (
+    FiniteFloatRange,
     ambient_option,
     emit_json,
     extrapolate_option,
@@ -72,7 +73,7 @@ def _check_page_path(path):
 @click.option("--angles", "angles_text", metavar="ANGLES",
               help="Angles of the angle slider: START:STOP:STEP or a comma list, degrees (default 0:70:5 "
                    "for one free thickness, 0:70:10 for two).")
-@click.option("--max-mb", type=click.FloatRange(0.2, 20.0), default=4.0, show_default=True,
+@click.option("--max-mb", type=FiniteFloatRange(0.2, 20.0), default=4.0, show_default=True,
               help="Largest page, in megabytes.")
 @illuminant_option
 @observer_option

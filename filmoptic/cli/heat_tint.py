@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from filmoptic.cli._common import (
+    FiniteFloatRange,
     angle_option,
     check_plot_path,
     echo_caution,
@@ -39,7 +40,7 @@ NO_TEMPERATURE = ("Only thickness is computed: the temperature and time that gro
 @click.option("--at", "at_text", metavar="THICKNESS", help="The colour at one oxide thickness, e.g. 45nm.")
 @click.option("--hex", "hex_", metavar="#RRGGBB", help="A colour seen (sRGB): the oxide thickness ranges that give it.")
 @click.option("--lab", metavar="L,a,b", help="The same as --hex from CIELAB L*, a*, b* (under --illuminant).")
-@click.option("--max-delta-e", type=click.FloatRange(min=0, min_open=True), default=5.0, show_default=True,
+@click.option("--max-delta-e", type=FiniteFloatRange(min=0, min_open=True), default=5.0, show_default=True,
               metavar="DE", help="With --hex/--lab: largest ΔE00 (CIEDE2000) that still counts as the colour.")
 @click.option("--oxide", metavar="MATERIAL", help="Replace the model's oxide data (as written in a stack).")
 @click.option("--metal", metavar="MATERIAL", help="Replace the model's metal data (as written in a stack).")

@@ -229,11 +229,12 @@ def map_command(stack, photo_path, mode, bare, open_path, dark_path, white, regi
             check_plot_path(plot_path)
         if csv_path:
             check_output_path(csv_path, "CSV file")
-        if max_megapixels is not None and not max_megapixels > 0:
+        if max_megapixels is not None and not 0 < max_megapixels < float("inf"):
             from filmoptic.errors import FilmopticError
 
-            raise FilmopticError(f"--max-megapixels must be positive, got {max_megapixels:g}")
-        max_pixels = MAX_PIXELS if max_megapixels is None else int(max_megapixels * 1e6)
+            raise FilmopticError(f"--max-megapixels must be a positive number, got {max_megapixels:g}")
+        # Past a million megapixels the limit means "none" (and an integer of it must still exist).
+        max_pixels = MAX_PIXELS if max_megapixels is None else int(min(max_megapixels, 1e6) * 1e6)
         cell_mm, cell_px = _cell_option(cell_text, scale)
         range_nm = _range(range_text)
         photo = read_photo(photo_path, encoding=encoding, max_pixels=max_pixels, what="photo")

@@ -7,6 +7,7 @@ import sys
 import click
 
 from filmoptic.cli._common import (
+    FiniteFloatRange,
     ambient_option,
     angle_option,
     check_plot_path,
@@ -219,7 +220,7 @@ def _print_plan(table, plan, reference, dark, as_json):
         row.append(percent(table.ratio[i]))
         if reference is not None:
             row.append(_raw(dark + table.ratio[i] * (reference - dark), reference))
-        row.append("← stop" if abs(d - table.target_nm) < 1e-9 else "")
+        row.append("← stop" if abs(d - table.target_nm) <= 1e-9 * table.target_nm else "")
         rows.append(row)
     target_reading = None if reference is None else dark + table.target_ratio * (reference - dark)
     if as_json:
@@ -312,7 +313,7 @@ def _print_plan(table, plan, reference, dark, as_json):
 @click.option("--resume", is_flag=True, help="Continue the run recorded in --log after a crash.")
 @click.option("--replay", is_flag=True,
               help="INPUT is a complete recorded file: run over it as fast as possible (see --speed).")
-@click.option("--speed", type=click.FloatRange(min=0, min_open=True), metavar="X",
+@click.option("--speed", type=FiniteFloatRange(min=0, min_open=True), metavar="X",
               help="With --replay: replay in simulated real time, X times faster.")
 @click.option("--keep-going", is_flag=True, help="Go on after the target (to watch the overshoot, or replay a whole run).")
 @click.option("--plan", "plan_only", is_flag=True,
@@ -323,7 +324,7 @@ def _print_plan(table, plan, reference, dark, as_json):
               help="Write a plot (PNG, SVG or PDF): the plan, or the run's signal and thickness against time.")
 @click.option("--range", "range_text", metavar="0:STOP", help="Thicknesses to model, nm (default: the solve "
               "range of the layer, stretched past the target).")
-@click.option("--step", type=click.FloatRange(min=1e-4, max=5), metavar="NM",
+@click.option("--step", type=FiniteFloatRange(min=1e-4, max=5), metavar="NM",
               help="Grid step of the modelled signal, nm (default: 0.02 or finer).")
 @angle_option
 @ambient_option
@@ -482,8 +483,9 @@ def _run(plan, input_path, *, baseline_s, reference, dark, reference_dark, windo
                 skip_line = max((r[3] or 0) for r in rows) if spec.kind == "file" else 0
                 skip_clock = rows[-1][0] if spec.kind != "file" else None
         log = RunLog.open(log_path, settings, resume=resume, started=started)
-    if on_target is not None:
-        echo_caution(ON_TARGET_CAUTION, as_json)
+    # Said once the first reading is in: a run that fails on its first row (no light during the
+    # baseline) ends with one error line, the caution for a command that never ran left out.
+    caution_due = on_target is not None
     display = _Display(as_json, plan)
     tgt = plan.target
     if not as_json:
@@ -508,6 +510,9 @@ def _run(plan, input_path, *, baseline_s, reference, dark, reference_dark, windo
         for estimate in run:
             if estimate is None:
                 continue
+            if caution_due:
+                echo_caution(ON_TARGET_CAUTION, as_json)
+                caution_due = False
             if estimates is not None:
                 estimates.append(estimate)
             if estimate.target_reached and not already:

@@ -15,6 +15,7 @@ import click
 
 from filmoptic.cli.anodize import law_from_options, law_options, volts_from_option
 from filmoptic.cli._common import (
+    FiniteFloatRange,
     ambient_option,
     angle_option,
     check_plot_path,
@@ -695,7 +696,7 @@ def _run_batch(stack_text, opts, readings_path, column, columns, out, as_json, c
 @click.option("--range", "range_text", metavar="START:STOP",
               help="Thicknesses to search, nm. Default: 0:100 for a metal layer, 0:500 otherwise "
                    "(or the layer's own LOW..HIGH).")
-@click.option("--step", type=click.FloatRange(min=1e-4, max=50), metavar="NM",
+@click.option("--step", type=FiniteFloatRange(min=1e-4, max=50), metavar="NM",
               help="Grid step, nm (default: fine enough for the layer's index; the smaller of 1 nm and λ_min/(32·n_max), so no fringe is missed).")
 @click.option("--readings", "readings_path", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
               help="A CSV file with one part per row: solve every reading in a column of ratios (see --column) "

@@ -96,7 +96,9 @@ def spectrum(stack, wl, angle, polarization, reverse, ambient, extrapolate, csv_
     light that enters it. An absorbing half-space ('Ti', 'Si' without a thickness) lets nothing
     through: T is 0 and what enters it counts as A substrate. The output says once which of
     these applies. The table shows percent; --json and --csv give fractions. Where T falls below
-    10 % the table adds the optical density OD = -log10 T (always in --json and --csv). When the
+    10 % the table adds the optical density OD = -log10 T (always in --json and --csv; where no
+    light at all comes through, T = 0, OD is infinite: 'inf' in the table and CSV, null in
+    JSON, which has no infinity). When the
     wavelengths span 380–780 nm, the luminous T and R (ISO 9050, D65) are printed under the table
     (JSON: luminous_T, luminous_R). With --reverse the light comes from the substrate side and
     --angle is measured in the medium there.

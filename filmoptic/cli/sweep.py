@@ -7,6 +7,7 @@ import math
 import click
 
 from filmoptic.cli._common import (
+    FiniteFloatRange,
     ambient_option,
     angle_option,
     check_output_path,
@@ -103,6 +104,10 @@ def table_rows(axis, table_step=None):
     """
     import numpy as np
 
+    from filmoptic.errors import FilmopticError
+
+    if table_step is not None and not (math.isfinite(table_step) and table_step > 0):
+        raise FilmopticError(f"--table-step must be a positive number, got {table_step!r}")
     axis = np.asarray(axis, dtype=float)
     n = axis.size
     grid = float(axis[1] - axis[0]) if n > 1 else 0.0
@@ -189,7 +194,7 @@ def _lab_text(lab) -> list[str]:
          "thickness_nm, reflected and transmitted L, a, b, hex and in_gamut, luminous_T and luminous_R as fractions.",
 )
 @click.option(
-    "--table-step", "table_step", type=click.FloatRange(min=0, min_open=True), metavar="STEP",
+    "--table-step", "table_step", type=FiniteFloatRange(min=0, min_open=True), metavar="STEP",
     help="Print every STEP nm (or volts with --volts) of the sweep in the table. Default: every row of a "
          "short sweep (up to 100 rows), else every 5 (10, 20 …) nm, the first giving at most about 100 rows.",
 )

@@ -21,6 +21,7 @@ technique to the design of optical coatings", Appl. Opt. 35, 5493–5508 (1996).
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -51,10 +52,16 @@ class NeedleCandidate:
 
 
 def _positions(entry) -> np.ndarray:
+    from ..limits import GRID_POINTS
+
     d = entry.thickness_nm
     if not entry.free or d <= 0:
         return np.array([0.0, d]) if d > 0 else np.array([0.0])
-    count = int(np.ceil(d / NEEDLE_SPACING_NM)) + 1
+    # Counted before the depths exist: a layer allowed to grow to a metre would otherwise ask for
+    # hundreds of millions of them (gigabytes) before any work limit could refuse the scan.
+    count = math.ceil(d / NEEDLE_SPACING_NM) + 1
+    GRID_POINTS.check(count, f"needle depths through a {d:g} nm layer every {NEEDLE_SPACING_NM:g} nm",
+                      "give the layer a narrower LOW..HIGH range or a --max-total")
     return np.linspace(0.0, d, max(count, 2))
 
 

@@ -297,6 +297,11 @@ def colour_cells(stack, photo, grid, *, flat=None, dark=None, mask=None, white=N
     lo, hi = search_range_nm(stack, range_nm)
     if not step_nm > 0:
         raise FilmopticError("the thickness step must be positive")
+    from ..limits import GRID_POINTS
+
+    # Counted before the grid exists: a range of a metre at 1 nm would fill the memory first.
+    points = (hi - lo) / step_nm + 1
+    GRID_POINTS.check(points, f"--range {lo:g}:{hi:g} nm searched every {step_nm:g} nm", "narrow the --range")
     model = _ColourModel(stack, illuminant, observer, angle_deg, extrapolate)
     grid_nm = np.linspace(lo, hi, int(np.ceil((hi - lo) / step_nm)) + 1)
     model_lab = model.Lab(grid_nm)       # checks the stack and illuminant before pixels are read

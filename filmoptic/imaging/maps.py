@@ -20,8 +20,11 @@ from .photo import CellGrid, Photo
 from ._search import search_range_nm
 from .profile import MapStats, Profile, fit_profile, map_stats
 
-__all__ = ["MODES", "FLAGS", "CSV_COLUMNS", "ThicknessMap", "map_thickness", "search_range_nm", "csv_header",
-           "csv_rows", "map_json"]
+__all__ = ["SCALE_PX_PER_MM", "MODES", "FLAGS", "CSV_COLUMNS", "ThicknessMap", "map_thickness", "search_range_nm",
+           "csv_header", "csv_rows", "map_json"]
+
+#: Plausible photo scales in pixels per mm: from a kilometre per pixel to a nanometre per pixel.
+SCALE_PX_PER_MM = (1e-6, 1e6)
 
 #: Modes of :func:`map_thickness` (``"color"`` is accepted for ``"colour"``).
 MODES = ("transmission", "colour")
@@ -219,9 +222,18 @@ def map_thickness(stack, photo, *, mode="transmission", bare=None, flat=None, da
     from ..units import parse_length_nm
 
     mode = _mode(mode)
+    if max_pixels is not None and not 0 < max_pixels < np.inf:
+        raise FilmopticError(f"the largest photo must be a positive number of pixels, got {max_pixels!r}")
     max_pixels = MAX_PIXELS if max_pixels is None else int(max_pixels)
     if scale_px_per_mm is not None and not (np.isfinite(scale_px_per_mm) and scale_px_per_mm > 0):
         raise FilmopticError(f"--scale must be a positive number of pixels per mm, got {scale_px_per_mm!r}")
+    # A kilometre per pixel or a nanometre per pixel is a typo, not a photo; positions that far
+    # out would also overflow the profile fits (r² of 1e300 mm).
+    if scale_px_per_mm is not None and not SCALE_PX_PER_MM[0] <= scale_px_per_mm <= SCALE_PX_PER_MM[1]:
+        raise FilmopticError(
+            f"--scale {scale_px_per_mm:g}: a photo's scale lies between {SCALE_PX_PER_MM[0]:g} and "
+            f"{SCALE_PX_PER_MM[1]:g} pixels per mm (a kilometre to a nanometre per pixel)"
+        )
     if sum(v is not None for v in (cells, cell_mm, cell_px)) > 1:
         raise FilmopticError("give the cells as a count (--cells) or a size (--cell), not both")
     if cell_mm is not None and scale_px_per_mm is None:

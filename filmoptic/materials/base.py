@@ -230,7 +230,14 @@ class Material:
             raise FilmopticError(f"{self.label}: wavelengths must be positive numbers of nm")
         wl = self._check_range(wl, extrapolate)
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            N = np.asarray(self._nk(wl), dtype=complex)
+            try:
+                N = np.asarray(self._nk(wl), dtype=complex)
+            except OverflowError:
+                # Python's float power raises where numpy's gives inf (drude(1.5,1e300,2.3)).
+                raise FilmopticError(
+                    f"{self.label}: the formula overflows at these wavelengths (a coefficient far beyond "
+                    "any material's); check its numbers"
+                ) from None
         N = np.broadcast_to(N, wl.shape).copy()
         if not np.all(np.isfinite(N)):
             where = float(np.ravel(wl)[np.argmax(~np.isfinite(np.ravel(N)))])

@@ -80,7 +80,10 @@ def plan_table(plan, rate_nm_per_s: float | None = None, rows: int = PLAN_ROWS) 
     model, target = plan.model, plan.target
     end = min(target.thickness_nm * (1 + PLAN_BEYOND), model.range_nm[1])
     step = target.thickness_nm / rows
-    thickness = np.unique(np.concatenate([np.arange(0.0, end + 1e-9, step), [target.thickness_nm]]))
+    # Counted relative to the step (an absolute slack of 1e-9 nm over a step of 1e-302 nm, for a
+    # target of 1e-300 nm, asked for 10^293 rows).
+    count = math.floor(end / step * (1 + 1e-12)) + 1
+    thickness = np.unique(np.concatenate([np.arange(count) * step, [target.thickness_nm]]))
     ratio = model.ratio_at(thickness)
     turning = model.turning_nm <= end
     time_s = None if rate_nm_per_s is None else thickness / rate_nm_per_s

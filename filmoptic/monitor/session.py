@@ -437,8 +437,17 @@ class Monitor:
         mean, sigma = _robust_mean(readings)
         if self.has_reference_detector:
             refs = np.array([q for _, _, q in self._baseline], dtype=float)
-            self._ref_detector_level, _ = _robust_mean(refs)
-            normalised = (readings - self.dark) / (refs - self.reference_dark)
+            # A reference reading at or below its dark level (a loose cable, a blocked detector) says
+            # nothing about the source: it is left out, as a dropout is later in the run.
+            lit = np.isfinite(refs) & (refs > self.reference_dark)
+            if not lit.any():
+                raise FilmopticError(
+                    f"the reference detector reads nothing above its dark reading ({self.reference_dark:g}) "
+                    "during the baseline: is it connected and does it see the source? (check its column, "
+                    "or the second number of --dark)"
+                )
+            self._ref_detector_level, _ = _robust_mean(refs[lit])
+            normalised = (readings[lit] - self.dark) / (refs[lit] - self.reference_dark)
         else:
             normalised = readings - self.dark
         self.reference = mean
